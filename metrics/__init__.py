@@ -1,0 +1,14 @@
+"""Pure polarisation metrics: numpy arrays in, numbers out.
+
+Importing this package registers every metric family in :mod:`blocwatch.metrics.registry`.
+This package never imports duckdb, plotly, click or the other blocwatch packages.
+"""
+
+from . import registry
+from .registry import FAMILIES, MetricValue, PeriodInput, compute_all, metric_names
+
+# Metric family modules register themselves on import (order = export order).
+# FAMILY-IMPORTS-BEGIN
+# FAMILY-IMPORTS-END
+
+__all__ = ["FAMILIES", "MetricValue", "PeriodInput", "compute_all", "metric_names", "registry"]

@@ -1,0 +1,126 @@
+"""The registry of per-period metrics: one entry per family, one invariance suite over all.
+
+A *family* is a function that takes a :class:`PeriodInput` and returns one
+:class:`MetricValue` per metric name it declares (one Louvain run gives ``best_modularity``,
+``communities`` and ``community_group_ari`` together). The pipeline calls
+:func:`compute_all` once per period and once per bootstrap replicate; the invariance tests in
+``tests/unit/test_registry.py`` run over :data:`FAMILIES`.
+
+Metric names are part of the export contract: add names, never rename them.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass, field
+
+import numpy as np
+
+# Vote codes in a member × ballot matrix (int8).
+MISSING, YES, NO, ABSTAIN = 0, 1, 2, 3
+
+
+@dataclass(frozen=True)
+class PeriodInput:
+    """Everything a metric may look at for one body × period (members already filtered).
+
+    agreement : (n, n) float, share of shared ballots on which i and j chose the same; NaN
+        where the pair shared no ballot (or fewer than the minimum). Diagonal is 1.
+    shared : (n, n) int, number of ballots both cast.
+    labels : (n,) int in 0..k-1, each member's group in this period.
+    weights : (n, n) float >= 0, the weighted graph (agreement where an edge exists, else 0),
+        zero diagonal.
+    edges : (n, n) bool, the thresholded graph chosen by the rule, symmetric, zero diagonal.
+    votes : (n, b) int8 codes MISSING/YES/NO/ABSTAIN, or None where not available.
+    seed : int, for every random step (Louvain, CV splits).
+    """
+
+    agreement: np.ndarray
+    shared: np.ndarray
+    labels: np.ndarray
+    weights: np.ndarray
+    edges: np.ndarray
+    votes: np.ndarray | None = None
+    seed: int = 0
+
+    @property
+    def n(self) -> int:
+        return int(self.labels.shape[0])
+
+    @property
+    def n_groups(self) -> int:
+        return int(np.unique(self.labels).size)
+
+
+@dataclass(frozen=True)
+class MetricValue:
+    """A metric's value, or ``None`` with a note saying why it could not be computed."""
+
+    value: float | None
+    note: str = ""
+
+    @staticmethod
+    def missing(why: str) -> MetricValue:
+        return MetricValue(None, why)
+
+    @property
+    def ok(self) -> bool:
+        return self.value is not None and math.isfinite(self.value)
+
+
+@dataclass(frozen=True)
+class Family:
+    name: str
+    metrics: tuple[str, ...]
+    func: Callable[[PeriodInput], dict[str, MetricValue]]
+    bounds: dict[str, tuple[float, float]] = field(default_factory=dict)
+    # Whether the family's values change when members are relabelled (all should not).
+    permutation_null: tuple[str, ...] = ()
+
+
+FAMILIES: dict[str, Family] = {}
+
+
+def register(name: str, metrics: tuple[str, ...], *,
+             bounds: dict[str, tuple[float, float]] | None = None,
+             permutation_null: tuple[str, ...] = ()):
+    """Decorator: add a family to :data:`FAMILIES`.
+
+    ``bounds`` gives the closed interval each metric must lie in (the invariance suite checks
+    it); ``permutation_null`` names the metrics that get a label-permutation null.
+    """
+
+    def deco(func: Callable[[PeriodInput], dict[str, MetricValue]]):
+        if name in FAMILIES:
+            raise ValueError(f"metric family {name!r} is registered twice")
+        FAMILIES[name] = Family(name, metrics, func, bounds or {}, permutation_null)
+        return func
+
+    return deco
+
+
+def metric_names() -> list[str]:
+    """Every metric name, in registration order."""
+    return [m for fam in FAMILIES.values() for m in fam.metrics]
+
+
+def compute_all(inp: PeriodInput, *, families: list[str] | None = None
+                ) -> dict[str, MetricValue]:
+    """Run every (or the named) families on one period; never raises for degenerate input.
+
+    A family that raises ``ValueError`` on this input gets a missing value with the message as
+    note for each of its metrics: a period where a metric cannot be computed is a note, not a
+    crash.
+    """
+    out: dict[str, MetricValue] = {}
+    for fam in FAMILIES.values():
+        if families is not None and fam.name not in families:
+            continue
+        try:
+            values = fam.func(inp)
+        except ValueError as exc:
+            values = {m: MetricValue.missing(str(exc)) for m in fam.metrics}
+        for m in fam.metrics:
+            out[m] = values.get(m, MetricValue.missing("not computed"))
+    return out

@@ -1,0 +1,1 @@
+"""Files, the store, periods, vote matrices, agreement, graphs, runs and the CLI."""

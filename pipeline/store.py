@@ -1,0 +1,337 @@
+"""The DuckDB store: the only module that imports ``duckdb``.
+
+One file (``./blocwatch.duckdb`` by default, ``:memory:`` for tests) holds the loaded ballots and
+the computed results. Any DuckDB client can open it. The schema version is recorded in ``meta``;
+:func:`migrate` brings an older file up to date and refuses a newer one.
+
+Values always travel as bound parameters or registered data frames, never by string formatting;
+table and column names that reach SQL are checked against :data:`TABLES` first.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import hashlib
+from collections.abc import Iterator, Sequence
+from pathlib import Path
+from typing import Any
+
+import duckdb
+import pandas as pd
+
+from .errors import BadInputError, StoreError
+
+SCHEMA_VERSION = 1
+DEFAULT_STORE = "blocwatch.duckdb"
+
+# Sentinels for open-ended membership dates (primary keys cannot hold NULL).
+OPEN_FROM = "1800-01-01"
+OPEN_TO = "9999-12-31"
+
+_SCHEMA_V1 = f"""
+CREATE TABLE IF NOT EXISTS meta (key VARCHAR PRIMARY KEY, value VARCHAR NOT NULL);
+CREATE TABLE IF NOT EXISTS bodies (
+    body VARCHAR PRIMARY KEY,
+    scale VARCHAR NOT NULL DEFAULT 'binary'
+);
+CREATE TABLE IF NOT EXISTS members (
+    body VARCHAR NOT NULL,
+    member_id VARCHAR NOT NULL,
+    name VARCHAR,
+    PRIMARY KEY (body, member_id)
+);
+CREATE TABLE IF NOT EXISTS memberships (
+    body VARCHAR NOT NULL,
+    member_id VARCHAR NOT NULL,
+    group_name VARCHAR NOT NULL,
+    valid_from DATE NOT NULL DEFAULT DATE '{OPEN_FROM}',
+    valid_to DATE NOT NULL DEFAULT DATE '{OPEN_TO}',
+    PRIMARY KEY (body, member_id, valid_from),
+    CHECK (valid_to >= valid_from)
+);
+CREATE TABLE IF NOT EXISTS ballots (
+    body VARCHAR NOT NULL,
+    ballot_id VARCHAR NOT NULL,
+    held_on DATE NOT NULL,
+    title VARCHAR,
+    item VARCHAR,
+    scale VARCHAR NOT NULL DEFAULT 'binary',
+    scale_min DOUBLE,
+    scale_max DOUBLE,
+    options VARCHAR,
+    PRIMARY KEY (body, ballot_id)
+);
+CREATE TABLE IF NOT EXISTS votes (
+    body VARCHAR NOT NULL,
+    ballot_id VARCHAR NOT NULL,
+    member_id VARCHAR NOT NULL,
+    raw VARCHAR,
+    choice VARCHAR NOT NULL,
+    score DOUBLE,
+    PRIMARY KEY (body, ballot_id, member_id)
+);
+CREATE TABLE IF NOT EXISTS ingests (
+    sha256 VARCHAR NOT NULL,
+    body VARCHAR NOT NULL,
+    file VARCHAR NOT NULL,
+    rows BIGINT NOT NULL,
+    at TIMESTAMP NOT NULL,
+    PRIMARY KEY (sha256, body)
+);
+CREATE TABLE IF NOT EXISTS runs (
+    run_id BIGINT PRIMARY KEY,
+    started TIMESTAMP NOT NULL,
+    finished TIMESTAMP,
+    version VARCHAR NOT NULL,
+    command VARCHAR NOT NULL,
+    params VARCHAR NOT NULL,
+    inputs VARCHAR,
+    recomputed VARCHAR,
+    status VARCHAR NOT NULL
+);
+CREATE TABLE IF NOT EXISTS periods (
+    body VARCHAR NOT NULL,
+    period VARCHAR NOT NULL,
+    period_start DATE NOT NULL,
+    period_end DATE NOT NULL,
+    fingerprint VARCHAR NOT NULL,
+    run_id BIGINT NOT NULL,
+    n_members INTEGER NOT NULL,
+    n_ballots INTEGER NOT NULL,
+    n_dropped INTEGER NOT NULL,
+    PRIMARY KEY (body, period)
+);
+CREATE TABLE IF NOT EXISTS period_metrics (
+    run_id BIGINT NOT NULL,
+    body VARCHAR NOT NULL,
+    period VARCHAR NOT NULL,
+    metric VARCHAR NOT NULL,
+    value DOUBLE,
+    low DOUBLE,
+    high DOUBLE,
+    null_mean DOUBLE,
+    null_z DOUBLE,
+    null_p DOUBLE,
+    note VARCHAR,
+    PRIMARY KEY (body, period, metric)
+);
+CREATE TABLE IF NOT EXISTS member_metrics (
+    run_id BIGINT NOT NULL,
+    body VARCHAR NOT NULL,
+    period VARCHAR NOT NULL,
+    member_id VARCHAR NOT NULL,
+    metric VARCHAR NOT NULL,
+    value DOUBLE,
+    note VARCHAR,
+    PRIMARY KEY (body, period, member_id, metric)
+);
+CREATE TABLE IF NOT EXISTS group_agreement (
+    run_id BIGINT NOT NULL,
+    body VARCHAR NOT NULL,
+    period VARCHAR NOT NULL,
+    group_a VARCHAR NOT NULL,
+    group_b VARCHAR NOT NULL,
+    agreement DOUBLE,
+    n_pairs INTEGER NOT NULL,
+    PRIMARY KEY (body, period, group_a, group_b)
+);
+CREATE TABLE IF NOT EXISTS trends (
+    run_id BIGINT NOT NULL,
+    body VARCHAR NOT NULL,
+    metric VARCHAR NOT NULL,
+    n_periods INTEGER NOT NULL,
+    mk_s DOUBLE,
+    mk_z DOUBLE,
+    mk_p DOUBLE,
+    tau DOUBLE,
+    slope DOUBLE,
+    slope_low DOUBLE,
+    slope_high DOUBLE,
+    change_points VARCHAR,
+    note VARCHAR,
+    PRIMARY KEY (body, metric)
+);
+"""
+
+# Every table, in dependency order; names reaching SQL are checked against this list.
+TABLES = (
+    "meta", "bodies", "members", "memberships", "ballots", "votes", "ingests", "runs",
+    "periods", "period_metrics", "member_metrics", "group_agreement", "trends",
+)
+
+# Migrations from version N to N+1, applied in order by :func:`migrate`.
+_MIGRATIONS: dict[int, str] = {}
+
+
+def check_table(name: str) -> str:
+    """Return ``name`` if it is one of the store's tables, else raise."""
+    if name not in TABLES:
+        raise StoreError(f"table {name!r}", "is not a blocwatch table",
+                         f"use one of: {', '.join(TABLES)}")
+    return name
+
+
+class Store:
+    """An open blocwatch store. Use as a context manager, or call :meth:`close`."""
+
+    def __init__(self, path: str | Path = DEFAULT_STORE, *, read_only: bool = False,
+                 create: bool = True):
+        self.path = str(path)
+        if self.path != ":memory:" and not Path(self.path).exists():
+            if not create or read_only:
+                raise StoreError(f"store {self.path}", "does not exist",
+                                 "run 'blocwatch ingest' first, or pass --store PATH")
+            Path(self.path).parent.mkdir(parents=True, exist_ok=True)
+        try:
+            self.con = duckdb.connect(self.path, read_only=read_only)
+        except duckdb.Error as exc:  # locked by another process, not a DuckDB file, ...
+            raise StoreError(f"store {self.path}", f"cannot be opened ({exc})",
+                             "check the path, and that no other program holds it open") from exc
+        self._depth = 0
+        if not read_only:
+            migrate(self.con)
+        else:
+            _check_version(self.con)
+
+    # -- lifecycle -------------------------------------------------------------------------
+    def close(self) -> None:
+        self.con.close()
+
+    def __enter__(self) -> Store:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+    @contextlib.contextmanager
+    def transaction(self) -> Iterator[Store]:
+        """All statements inside commit together or not at all (nested calls join the outer)."""
+        if self._depth:
+            self._depth += 1
+            try:
+                yield self
+            finally:
+                self._depth -= 1
+            return
+        self.con.execute("BEGIN TRANSACTION")
+        self._depth = 1
+        try:
+            yield self
+        except BaseException:
+            self.con.execute("ROLLBACK")
+            raise
+        else:
+            self.con.execute("COMMIT")
+        finally:
+            self._depth = 0
+
+    # -- queries ---------------------------------------------------------------------------
+    def execute(self, sql: str, params: Sequence[Any] | dict | None = None) -> None:
+        try:
+            self.con.execute(sql, params or [])
+        except duckdb.ConstraintException as exc:
+            raise BadInputError("store", f"a key or check constraint failed ({exc})",
+                                "fix the input so each key appears once") from exc
+
+    def df(self, sql: str, params: Sequence[Any] | dict | None = None) -> pd.DataFrame:
+        """Run a query and return its rows as a data frame."""
+        return self.con.execute(sql, params or []).df()
+
+    def rows(self, sql: str, params: Sequence[Any] | dict | None = None) -> list[tuple]:
+        return self.con.execute(sql, params or []).fetchall()
+
+    def scalar(self, sql: str, params: Sequence[Any] | dict | None = None) -> Any:
+        row = self.con.execute(sql, params or []).fetchone()
+        return None if row is None else row[0]
+
+    def insert_frame(self, table: str, frame: pd.DataFrame, *, replace_keys: bool = False) -> int:
+        """Append ``frame`` (columns named as the table's) to ``table``; return rows written.
+
+        With ``replace_keys`` rows whose primary key exists are overwritten (``INSERT OR
+        REPLACE``). A key collision otherwise raises :class:`BadInputError`.
+        """
+        check_table(table)
+        if frame.empty:
+            return 0
+        cols = ", ".join(f'"{c}"' for c in frame.columns)
+        verb = "INSERT OR REPLACE INTO" if replace_keys else "INSERT INTO"
+        self.con.register("_bw_frame", frame)
+        try:
+            self.execute(f"{verb} {table} ({cols}) SELECT {cols} FROM _bw_frame")
+        finally:
+            self.con.unregister("_bw_frame")
+        return len(frame)
+
+    def register(self, name: str, frame: pd.DataFrame) -> None:
+        """Make ``frame`` queryable as the view ``name`` on this connection."""
+        self.con.register(name, frame)
+
+    def unregister(self, name: str) -> None:
+        self.con.unregister(name)
+
+    def table(self, name: str) -> pd.DataFrame:
+        """The whole of one table, ordered by all its columns (for comparisons and exports)."""
+        check_table(name)
+        return self.df(f"SELECT * FROM {name} ORDER BY ALL")
+
+    def content_hash(self, tables: Sequence[str] = TABLES) -> dict[str, str]:
+        """sha256 of each table's sorted contents: equal hashes mean equal tables."""
+        out = {}
+        for name in tables:
+            frame = self.table(name)
+            digest = hashlib.sha256(frame.to_csv(index=False).encode()).hexdigest()
+            out[name] = digest
+        return out
+
+    def read_csv(self, path: str | Path, **options: Any) -> pd.DataFrame:
+        """Read a delimited text file through DuckDB's reader, every column as text."""
+        try:
+            rel = self.con.read_csv(str(path), all_varchar=True, **options)
+            return rel.df()
+        except duckdb.Error as exc:
+            raise BadInputError(f"file {path}", f"cannot be read as CSV ({_first_line(exc)})",
+                                "check the delimiter, quoting and encoding (UTF-8)") from exc
+
+    def read_parquet(self, path: str | Path) -> pd.DataFrame:
+        try:
+            return self.con.read_parquet(str(path)).df()
+        except duckdb.Error as exc:
+            raise BadInputError(f"file {path}", f"cannot be read as Parquet ({_first_line(exc)})",
+                                "check that the file is a Parquet file") from exc
+
+
+def _first_line(exc: BaseException) -> str:
+    return str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
+
+
+def _check_version(con: duckdb.DuckDBPyConnection) -> int:
+    try:
+        row = con.execute("SELECT value FROM meta WHERE key = 'schema_version'").fetchone()
+    except duckdb.CatalogException:
+        return 0
+    version = int(row[0]) if row else 0
+    if version > SCHEMA_VERSION:
+        raise StoreError("store", f"has schema version {version}, newer than this blocwatch "
+                         f"({SCHEMA_VERSION})", "upgrade blocwatch")
+    return version
+
+
+def migrate(con: duckdb.DuckDBPyConnection) -> int:
+    """Create the schema, or bring an older one up to :data:`SCHEMA_VERSION`; return it."""
+    version = _check_version(con)
+    if version == SCHEMA_VERSION:
+        return version
+    con.execute("BEGIN TRANSACTION")
+    try:
+        if version == 0:
+            con.execute(_SCHEMA_V1)
+            version = 1
+        while version < SCHEMA_VERSION:
+            con.execute(_MIGRATIONS[version])
+            version += 1
+        con.execute("INSERT OR REPLACE INTO meta VALUES ('schema_version', ?)", [str(version)])
+        con.execute("COMMIT")
+    except BaseException:
+        con.execute("ROLLBACK")
+        raise
+    return version
