@@ -75,7 +75,7 @@ CREATE TABLE IF NOT EXISTS ingests (
     body VARCHAR NOT NULL,
     file VARCHAR NOT NULL,
     rows BIGINT NOT NULL,
-    at TIMESTAMP NOT NULL,
+    loaded_at TIMESTAMP NOT NULL,
     PRIMARY KEY (sha256, body)
 );
 CREATE TABLE IF NOT EXISTS runs (
