@@ -1,0 +1,180 @@
+"""One body × period from its vote matrix to result rows: filters, agreement, graph, metrics,
+ballot bootstrap and label-permutation nulls. No store access here, so a worker process can run
+it on a matrix it was handed.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+from dataclasses import asdict, dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from blocwatch.metrics import PeriodInput, compute_all, registry
+from blocwatch.metrics.cohesion import group_agreement_matrix
+from blocwatch.metrics.member_registry import compute_members
+from blocwatch.metrics.nulls import label_permutation_null
+from blocwatch.metrics.resampling import ballot_weights, percentile_interval, stable_seed
+
+from .agreement import (
+    AgreementOptions,
+    agreement_counts,
+    agreement_matrix,
+    ballot_mask,
+)
+from .graphs import DEFAULT_RULE, build_graph, parse_rule
+from .matrices import VoteMatrix
+from .periods import DEFAULT_PERIOD
+
+DEFAULT_BOOTSTRAP = 200
+DEFAULT_PERMUTATIONS = 200
+DEFAULT_SEED = 20240601
+METRIC_COLUMNS = ["metric", "value", "low", "high", "null_mean", "null_z", "null_p", "note"]
+
+
+@dataclass(frozen=True)
+class BuildOptions:
+    """Everything that decides a period's numbers (it goes into the fingerprint)."""
+
+    period: str = DEFAULT_PERIOD
+    rule: str = DEFAULT_RULE
+    seed: int = DEFAULT_SEED
+    bootstrap: int = DEFAULT_BOOTSTRAP
+    permutations: int = DEFAULT_PERMUTATIONS
+    agreement: AgreementOptions = field(default_factory=AgreementOptions)
+
+    def params(self) -> dict:
+        return asdict(self)
+
+
+@dataclass
+class PeriodResult:
+    body: str
+    period_name: str
+    period_start: object
+    period_end: object
+    n_members: int
+    n_ballots: int
+    n_dropped: int
+    fingerprint: str
+    metrics: pd.DataFrame
+    members: pd.DataFrame
+    groups: pd.DataFrame
+
+
+def fingerprint(vm: VoteMatrix, opts: BuildOptions, version: str) -> str:
+    """Hash of the period's votes, the groups in force, the parameters and the tool version."""
+    h = hashlib.sha256()
+    for arr in (vm.member_ids, vm.groups, vm.ballot_ids, vm.items):
+        h.update("\x1f".join(map(str, arr)).encode())
+        h.update(b"\x1e")
+    h.update(np.ascontiguousarray(vm.votes).tobytes())
+    h.update(json.dumps(opts.params(), sort_keys=True, default=str).encode())
+    h.update(version.encode())
+    return h.hexdigest()
+
+
+def filter_period(vm: VoteMatrix, opts: AgreementOptions) -> VoteMatrix:
+    """Drop unanimous/lopsided ballots, then members who cast too few of the rest."""
+    keep_ballots = ballot_mask(vm.votes, opts) if vm.votes.size else np.zeros(0, bool)
+    vm = vm.subset(ballots=keep_ballots)
+    cast = (vm.votes != registry.MISSING).sum(axis=1)
+    needed = max(1, int(np.ceil(opts.min_share_cast * vm.votes.shape[1])))
+    keep_members = cast >= needed
+    return vm.subset(members=keep_members, dropped=int((~keep_members).sum()))
+
+
+def period_input(votes: np.ndarray, labels: np.ndarray, opts: BuildOptions, seed: int,
+                 weights: np.ndarray | None = None) -> PeriodInput:
+    """Agreement, graph and metric input for one (possibly reweighted) vote matrix."""
+    same, both = agreement_counts(votes, weights=weights,
+                                  abstain_as_position=opts.agreement.abstain_as_position)
+    agreement = agreement_matrix(same, both, min_shared=opts.agreement.min_shared)
+    graph = build_graph(agreement, labels, parse_rule(opts.rule))
+    if weights is not None:  # the resampled matrix, for the families that read votes
+        votes = np.repeat(votes, np.asarray(weights, dtype=np.int64), axis=1)
+    return PeriodInput(agreement=agreement, shared=both.astype(np.int64), labels=labels,
+                       weights=graph.weights, edges=graph.edges, votes=votes, seed=seed)
+
+
+def _bootstrap(vm: VoteMatrix, labels: np.ndarray, opts: BuildOptions, seed: int,
+               names: list[str]) -> dict[str, tuple[float, float]]:
+    if opts.bootstrap <= 0 or vm.votes.shape[1] == 0:
+        return {}
+    blocks = vm.items if any(vm.items) else None
+    w = ballot_weights(vm.votes.shape[1], opts.bootstrap, seed=seed, blocks=blocks)
+    samples = np.full((opts.bootstrap, len(names)), np.nan)
+    for r in range(opts.bootstrap):
+        values = compute_all(period_input(vm.votes, labels, opts, seed, weights=w[r]))
+        samples[r] = [values[m].value if values[m].ok else np.nan for m in names]
+    return {m: percentile_interval(samples[:, j]) for j, m in enumerate(names)}
+
+
+def _nulls(inp: PeriodInput, opts: BuildOptions, seed: int) -> dict[str, dict]:
+    if opts.permutations <= 0 or inp.n_groups < 2:
+        return {}
+    out = {}
+    for fam in registry.FAMILIES.values():
+        for metric in fam.permutation_null:
+            def stat(labels, _fam=fam, _metric=metric):
+                value = _fam.func(_replace_labels(inp, labels))[_metric]
+                return value.value if value.ok else np.nan
+            out[metric] = label_permutation_null(stat, inp.labels, n_perm=opts.permutations,
+                                                 seed=seed)
+    return out
+
+
+def _replace_labels(inp: PeriodInput, labels: np.ndarray) -> PeriodInput:
+    return PeriodInput(inp.agreement, inp.shared, labels, inp.weights, inp.edges, inp.votes,
+                       inp.seed)
+
+
+def compute_period(vm: VoteMatrix, opts: BuildOptions, version: str) -> PeriodResult:
+    """All result rows of one period (``vm`` as loaded, before filtering)."""
+    seed = stable_seed(opts.seed, vm.body, vm.period.name)
+    fp = fingerprint(vm, opts, version)
+    vm = filter_period(vm, opts.agreement)
+    labels = vm.labels
+    inp = period_input(vm.votes, labels, opts, seed)
+    values = compute_all(inp)
+    names = list(values)
+    intervals = _bootstrap(vm, labels, opts, seed, names)
+    nulls = _nulls(inp, opts, seed)
+    rows = []
+    for m in names:
+        v = values[m]
+        low, high = intervals.get(m, (np.nan, np.nan))
+        null = nulls.get(m, {})
+        rows.append([m, v.value if v.ok else np.nan, low, high, null.get("mean", np.nan),
+                     null.get("z", np.nan), null.get("p", np.nan), v.note or None])
+    metrics = pd.DataFrame(rows, columns=METRIC_COLUMNS)
+    return PeriodResult(vm.body, vm.period.name, vm.period.start, vm.period.end, inp.n,
+                        int(vm.votes.shape[1]), vm.dropped, fp, metrics,
+                        _member_rows(vm, inp), _group_rows(vm, inp))
+
+
+def _member_rows(vm: VoteMatrix, inp: PeriodInput) -> pd.DataFrame:
+    if inp.n == 0:
+        return pd.DataFrame(columns=["member_id", "metric", "value", "note"])
+    scores = compute_members(inp)
+    frames = [pd.DataFrame({"member_id": vm.member_ids, "metric": name,
+                            "value": np.asarray(vals, dtype=float)})
+              for name, vals in scores.items()]
+    out = pd.concat(frames, ignore_index=True)
+    out["note"] = None
+    return out
+
+
+def _group_rows(vm: VoteMatrix, inp: PeriodInput) -> pd.DataFrame:
+    cols = ["group_a", "group_b", "agreement", "n_pairs"]
+    if inp.n == 0:
+        return pd.DataFrame(columns=cols)
+    mean, pairs = group_agreement_matrix(inp.agreement, inp.labels)
+    g = vm.group_names
+    ia, ib = np.meshgrid(np.arange(len(g)), np.arange(len(g)), indexing="ij")
+    return pd.DataFrame({"group_a": np.array(g, dtype=object)[ia.ravel()],
+                         "group_b": np.array(g, dtype=object)[ib.ravel()],
+                         "agreement": np.asarray(mean, dtype=float).ravel(),
+                         "n_pairs": np.asarray(pairs, dtype=np.int64).ravel()})
