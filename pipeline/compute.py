@@ -157,9 +157,9 @@ def compute_period(vm: VoteMatrix, opts: BuildOptions, version: str) -> PeriodRe
 
 def _member_rows(vm: VoteMatrix, inp: PeriodInput) -> pd.DataFrame:
     if inp.n == 0:
-        return pd.DataFrame(columns=["member_id", "metric", "value", "note"])
+        return pd.DataFrame(columns=["member_id", "group_name", "metric", "value", "note"])
     scores = compute_members(inp)
-    frames = [pd.DataFrame({"member_id": vm.member_ids, "metric": name,
+    frames = [pd.DataFrame({"member_id": vm.member_ids, "group_name": vm.groups, "metric": name,
                             "value": np.asarray(vals, dtype=float)})
               for name, vals in scores.items()]
     out = pd.concat(frames, ignore_index=True)

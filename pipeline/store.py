@@ -120,6 +120,7 @@ CREATE TABLE IF NOT EXISTS member_metrics (
     body VARCHAR NOT NULL,
     period VARCHAR NOT NULL,
     member_id VARCHAR NOT NULL,
+    group_name VARCHAR,
     metric VARCHAR NOT NULL,
     value DOUBLE,
     note VARCHAR,
