@@ -17,7 +17,6 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-
 from blocwatch.metrics.registry import ABSTAIN, NO, YES
 
 DEFAULT_MIN_SHARED = 5

@@ -9,15 +9,13 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
-
 from blocwatch.metrics.trends import trend_summary
-
-from .compute import BuildOptions, PeriodResult, compute_period, fingerprint
-from .errors import UsageError
-from .matrices import ballot_date_range, load_votes
-from .periods import Period, make_periods
-from .runs import finish_run, start_run, tool_version
-from .store import Store
+from blocwatch.pipeline.compute import BuildOptions, PeriodResult, compute_period, fingerprint
+from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.matrices import ballot_date_range, load_votes
+from blocwatch.pipeline.periods import Period, make_periods
+from blocwatch.pipeline.runs import finish_run, start_run, tool_version
+from blocwatch.pipeline.store import Store
 
 RESULT_TABLES = ("period_metrics", "member_metrics", "group_agreement")
 

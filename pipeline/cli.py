@@ -13,8 +13,7 @@ import traceback
 from pathlib import Path
 
 import click
-
-from .errors import EXIT_FAILURE, EXIT_USAGE, BlocwatchError
+from blocwatch.pipeline.errors import EXIT_FAILURE, EXIT_USAGE, BlocwatchError
 
 STORE_HELP = "DuckDB store file (default: ./blocwatch.duckdb, or the one blocwatch.toml names)."
 
@@ -75,6 +74,111 @@ def main(argv: list[str] | None = None) -> None:
 
 
 def resolve_store(store_path: str | None) -> Path:
-    from .config import default_store_path
+    from blocwatch.pipeline.config import default_store_path
 
     return Path(store_path) if store_path else default_store_path()
+
+
+def _progress(ctx: click.Context, label: str):
+    """A reporter for long work: a line per step on stderr when it is a terminal, else silent."""
+    if ctx.find_root().obj.get("quiet") or not sys.stderr.isatty():
+        return None
+    return lambda step: click.echo(f"{label}: {step}", err=True)
+
+
+def build_options(period, rule, seed, bootstrap, permutations, abstain_as_position,
+                  min_shared, keep_unanimous, lopsided, min_share_cast):
+    from blocwatch.pipeline.agreement import AgreementOptions
+    from blocwatch.pipeline.compute import BuildOptions
+    from blocwatch.pipeline.graphs import parse_rule
+    from blocwatch.pipeline.periods import parse_period_spec
+
+    parse_period_spec(period)
+    parse_rule(rule)
+    return BuildOptions(period=period, rule=rule, seed=seed, bootstrap=bootstrap,
+                        permutations=permutations,
+                        agreement=AgreementOptions(abstain_as_position=abstain_as_position,
+                                                   min_shared=min_shared,
+                                                   drop_unanimous=not keep_unanimous,
+                                                   lopsided=lopsided,
+                                                   min_share_cast=min_share_cast))
+
+
+def build_flags(func):
+    """The options that decide a period's numbers (shared by build, rebuild and demo)."""
+    from blocwatch.pipeline.agreement import (
+        DEFAULT_LOPSIDED,
+        DEFAULT_MIN_SHARE_CAST,
+        DEFAULT_MIN_SHARED,
+    )
+    from blocwatch.pipeline.compute import DEFAULT_BOOTSTRAP, DEFAULT_PERMUTATIONS, DEFAULT_SEED
+    from blocwatch.pipeline.graphs import DEFAULT_RULE
+    from blocwatch.pipeline.periods import DEFAULT_PERIOD
+
+    flags = [
+        click.option("--period", default=DEFAULT_PERIOD, show_default=True,
+                     help="Period spec: year, year:MM, terms:FILE, rolling:LEN:STEP."),
+        click.option("--rule", default=DEFAULT_RULE, show_default=True,
+                     help="Graph rule: weighted, threshold:X, equal-likelihood."),
+        click.option("--seed", type=int, default=DEFAULT_SEED, show_default=True,
+                     help="Seed for every random step (Louvain, CV, bootstrap, nulls)."),
+        click.option("--bootstrap", type=click.IntRange(min=0), default=DEFAULT_BOOTSTRAP,
+                     show_default=True, help="Ballot-bootstrap replicates (0: no intervals)."),
+        click.option("--permutations", type=click.IntRange(min=0),
+                     default=DEFAULT_PERMUTATIONS, show_default=True,
+                     help="Label permutations for the null (0: no null)."),
+        click.option("--abstain-as-position", is_flag=True,
+                     help="Count abstain as a third position (default: like an absence)."),
+        click.option("--min-shared", type=click.IntRange(min=1), default=DEFAULT_MIN_SHARED,
+                     show_default=True, help="Fewest shared ballots for a pair to have an edge."),
+        click.option("--keep-unanimous", is_flag=True,
+                     help="Keep unanimous ballots (default: left out)."),
+        click.option("--lopsided", type=click.FloatRange(0, 0.5), default=DEFAULT_LOPSIDED,
+                     show_default=True, help="Leave out ballots whose minority share is below."),
+        click.option("--min-share-cast", type=click.FloatRange(0, 1),
+                     default=DEFAULT_MIN_SHARE_CAST, show_default=True,
+                     help="Members casting less than this share of a period's ballots are left "
+                          "out of it."),
+    ]
+    for flag in reversed(flags):
+        func = flag(func)
+    return func
+
+
+@cli.command()
+@store_option
+@click.option("--body", default=None, help="Only this body (default: every body in the store).")
+@build_flags
+@click.pass_context
+@handle_errors
+def build(ctx, store_path, body, **flags):
+    """Compute every period's agreement graph and metrics and store them."""
+    from blocwatch.pipeline.build import build as run_build
+    from blocwatch.pipeline.store import Store
+
+    opts = build_options(**flags)
+    with Store(resolve_store(store_path)) as store:
+        report = run_build(store, body=body, options=opts, progress=_progress(ctx, "build"))
+    click.echo(f"run {report.run_id}: {len(report.periods)} period(s) computed")
+
+
+@cli.command()
+@store_option
+@click.option("--table", type=click.Choice(["metrics", "members", "groups", "trends"]),
+              required=True, help="Which results to export.")
+@click.option("--format", "fmt", type=click.Choice(["csv", "parquet", "json"]), default="csv",
+              show_default=True, help="File format (json: one record per line).")
+@click.option("--body", default=None, help="Only this body.")
+@click.option("--out", type=click.Path(dir_okay=False), default=None,
+              help="Output file (default: standard output; parquet needs a file).")
+@handle_errors
+def export(store_path, table, fmt, body, out):
+    """Export a results table (text cells safe to open in a spreadsheet)."""
+    from blocwatch.pipeline.results import export_frame, write_frame
+    from blocwatch.pipeline.store import Store
+
+    with Store(resolve_store(store_path), read_only=True) as store:
+        frame = export_frame(store, table, body=body)
+    path = write_frame(frame, fmt, out)
+    if path is not None:
+        click.echo(f"wrote {len(frame)} rows to {path}", err=True)

@@ -11,22 +11,20 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 import pandas as pd
-
 from blocwatch.metrics import PeriodInput, compute_all, registry
 from blocwatch.metrics.cohesion import group_agreement_matrix
 from blocwatch.metrics.member_registry import compute_members
 from blocwatch.metrics.nulls import label_permutation_null
 from blocwatch.metrics.resampling import ballot_weights, percentile_interval, stable_seed
-
-from .agreement import (
+from blocwatch.pipeline.agreement import (
     AgreementOptions,
     agreement_counts,
     agreement_matrix,
     ballot_mask,
 )
-from .graphs import DEFAULT_RULE, build_graph, parse_rule
-from .matrices import VoteMatrix
-from .periods import DEFAULT_PERIOD
+from blocwatch.pipeline.graphs import DEFAULT_RULE, build_graph, parse_rule
+from blocwatch.pipeline.matrices import VoteMatrix
+from blocwatch.pipeline.periods import DEFAULT_PERIOD
 
 DEFAULT_BOOTSTRAP = 200
 DEFAULT_PERMUTATIONS = 200

@@ -5,8 +5,8 @@ from __future__ import annotations
 import tomllib
 from pathlib import Path
 
-from .errors import UsageError
-from .store import DEFAULT_STORE
+from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.store import DEFAULT_STORE
 
 CONFIG_NAME = "blocwatch.toml"
 

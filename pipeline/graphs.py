@@ -19,8 +19,7 @@ from dataclasses import dataclass
 
 import networkx as nx
 import numpy as np
-
-from .errors import UsageError
+from blocwatch.pipeline.errors import UsageError
 
 DEFAULT_RULE = "weighted"
 

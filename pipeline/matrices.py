@@ -11,11 +11,9 @@ from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
-
 from blocwatch.metrics.registry import ABSTAIN, MISSING, NO, YES
-
-from .periods import Period
-from .store import Store
+from blocwatch.pipeline.periods import Period
+from blocwatch.pipeline.store import Store
 
 CHOICE_CODES = {"yes": YES, "no": NO, "abstain": ABSTAIN, "absent": MISSING}
 

@@ -26,7 +26,7 @@ from dataclasses import dataclass
 from datetime import date, timedelta
 from pathlib import Path
 
-from .errors import BadInputError, UsageError
+from blocwatch.pipeline.errors import BadInputError, UsageError
 
 DEFAULT_PERIOD = "year"
 

@@ -6,9 +6,8 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
-
-from .errors import UsageError
-from .store import Store
+from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.store import Store
 
 # Column order of each export (DESIGN.md: add columns at the end, never rename).
 EXPORT_QUERIES = {
@@ -52,7 +51,7 @@ def export_frame(store: Store, table: str, *, body: str | None = None) -> pd.Dat
 
 def neutralise_frame(frame: pd.DataFrame) -> pd.DataFrame:
     """Text cells that a spreadsheet would run as a formula get a leading quote (OWASP)."""
-    from .safety import neutralise_cell
+    from blocwatch.pipeline.safety import neutralise_cell
 
     out = frame.copy()
     for col in out.columns:
@@ -86,9 +85,9 @@ def write_frame(frame: pd.DataFrame, fmt: str, out: str | Path | None) -> Path |
 
 def network_edges(store: Store, body: str, periods: list[str], *, options) -> pd.DataFrame:
     """Agreement of every member pair with a value in the named periods (for network pictures)."""
-    from .compute import filter_period, period_input
-    from .matrices import load_votes
-    from .periods import Period
+    from blocwatch.pipeline.compute import filter_period, period_input
+    from blocwatch.pipeline.matrices import load_votes
+    from blocwatch.pipeline.periods import Period
 
     rows = store.rows("SELECT period, period_start, period_end FROM periods WHERE body = ?",
                       [body])

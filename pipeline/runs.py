@@ -6,7 +6,7 @@ import json
 from datetime import datetime, timezone
 from importlib.metadata import PackageNotFoundError, version
 
-from .store import Store
+from blocwatch.pipeline.store import Store
 
 
 def tool_version() -> str:

@@ -18,8 +18,7 @@ from typing import Any
 
 import duckdb
 import pandas as pd
-
-from .errors import BadInputError, StoreError
+from blocwatch.pipeline.errors import BadInputError, StoreError
 
 SCHEMA_VERSION = 1
 DEFAULT_STORE = "blocwatch.duckdb"
