@@ -1,0 +1,71 @@
+"""The one-way data flow of DESIGN.md, checked by parsing every module's imports with ``ast``."""
+
+import ast
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[2]
+PACKAGES = ("pipeline", "metrics", "dashboards")
+
+# package -> top-level modules (or blocwatch subpackages) it must never import
+FORBIDDEN = {
+    "metrics": {"duckdb", "plotly", "click", "kaleido", "blocwatch.pipeline",
+                "blocwatch.dashboards"},
+    "dashboards": {"duckdb", "click", "blocwatch.pipeline", "blocwatch.metrics"},
+    "pipeline": {"plotly", "kaleido"},
+}
+BARE = set(PACKAGES)
+
+
+def _imports(path: Path) -> list[str]:
+    tree = ast.parse(path.read_text(encoding="utf-8"), filename=str(path))
+    names = []
+    for node in ast.walk(tree):
+        if isinstance(node, ast.Import):
+            names += [a.name for a in node.names]
+        elif isinstance(node, ast.ImportFrom):
+            if node.level:  # relative: stays inside its own package
+                names.append("." * node.level + (node.module or ""))
+            else:
+                names.append(node.module or "")
+    return names
+
+
+def _modules():
+    for pkg in PACKAGES:
+        for path in sorted((ROOT / pkg).rglob("*.py")):
+            yield pkg, path
+
+
+def _matches(name: str, banned: str) -> bool:
+    return name == banned or name.startswith(banned + ".")
+
+
+@pytest.mark.parametrize("pkg,path", list(_modules()), ids=lambda v: str(v)[-40:])
+def test_layering(pkg, path):
+    for name in _imports(path):
+        for banned in FORBIDDEN[pkg] | BARE:
+            assert not _matches(name, banned), f"{path.relative_to(ROOT)} imports {name}"
+
+
+def test_only_the_store_imports_duckdb():
+    users = {str(p.relative_to(ROOT)) for _, p in _modules()
+             if any(_matches(n, "duckdb") for n in _imports(p))}
+    assert users == {"pipeline/store.py"}
+
+
+def test_cli_has_no_sql_or_figures():
+    """The CLI is the composition root: no SQL strings, no plotly, no numpy arithmetic."""
+    text = (ROOT / "pipeline" / "cli.py").read_text(encoding="utf-8")
+    names = _imports(ROOT / "pipeline" / "cli.py")
+    assert not any(_matches(n, m) for n in names for m in ("numpy", "pandas", "plotly"))
+    for keyword in ("SELECT ", "INSERT ", "DELETE ", "UPDATE "):
+        assert keyword not in text
+
+
+def test_the_rule_can_fail(tmp_path):
+    """The checker itself sees a forbidden import (so the suite above is not vacuous)."""
+    bad = tmp_path / "bad.py"
+    bad.write_text("import duckdb\nfrom blocwatch.pipeline import store\nfrom . import x\n")
+    assert _imports(bad) == ["duckdb", "blocwatch.pipeline", "."]
