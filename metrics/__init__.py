@@ -9,6 +9,9 @@ from .registry import FAMILIES, MetricValue, PeriodInput, compute_all, metric_na
 
 # Metric family modules register themselves on import (order = export order).
 # FAMILY-IMPORTS-BEGIN
+# isort: off
+from blocwatch.metrics import modularity, community, crossgroup, separability  # noqa: F401
+# isort: on
 # FAMILY-IMPORTS-END
 
 __all__ = ["FAMILIES", "MetricValue", "PeriodInput", "compute_all", "metric_names", "registry"]
