@@ -182,3 +182,75 @@ def export(store_path, table, fmt, body, out):
     path = write_frame(frame, fmt, out)
     if path is not None:
         click.echo(f"wrote {len(frame)} rows to {path}", err=True)
+
+
+def _write_report(store_path: Path, body: str | None, out: Path, periods: list[str] | None,
+                  images: bool) -> list[Path]:
+    """Stage: result frames from the store, then pages and pieces from the dashboards."""
+    from blocwatch.dashboards import ReportTables, write_report
+    from blocwatch.pipeline.config import group_colours
+    from blocwatch.pipeline.reporting import report_frames
+    from blocwatch.pipeline.store import Store
+
+    with Store(store_path, read_only=True) as store:
+        frames = report_frames(store, body=body, periods=periods)
+    tables = ReportTables(**frames, colours=group_colours())
+    return write_report(out, tables, images=images)
+
+
+@cli.command()
+@store_option
+@click.option("--body", default=None, help="Only this body (default: every body).")
+@click.option("--out", type=click.Path(file_okay=False), default="blocwatch-report",
+              show_default=True, help="Folder for the pages, snippets, images and CSV.")
+@click.option("--periods", default=None,
+              help="Comma-separated periods for network pictures (default: first, last and "
+                   "each change point).")
+@click.option("--images/--no-images", default=False, show_default=True,
+              help="Also write PNG and SVG (needs Chromium or Chrome).")
+@handle_errors
+def report(store_path, body, out, periods, images):
+    """Write the briefing pages, comparison page and embeddable pieces."""
+    paths = _write_report(resolve_store(store_path), body, Path(out),
+                          periods.split(",") if periods else None, images)
+    for path in paths:
+        if path.suffix == ".html" and path.parent == Path(out):
+            click.echo(f"page: {path}")
+    click.echo(f"wrote {len(paths)} file(s) to {out}")
+
+
+@cli.command()
+@click.option("--out", type=click.Path(file_okay=False), default="blocwatch-demo",
+              show_default=True, help="Folder for the demo's data, store and report.")
+@click.option("--seed", type=int, default=7, show_default=True,
+              help="Seed of the invented scenario.")
+@click.option("--bootstrap", type=click.IntRange(min=0), default=None,
+              help="Bootstrap replicates (default: as blocwatch build).")
+@click.pass_context
+@handle_errors
+def demo(ctx, out, seed, bootstrap):
+    """Generate an invented body, load it, build the series and write the report."""
+    from blocwatch.pipeline.build import build as run_build
+    from blocwatch.pipeline.compute import BuildOptions
+    from blocwatch.pipeline.demo_data import BODY, generate
+    from blocwatch.pipeline.ingest import ingest_files
+    from blocwatch.pipeline.results import export_frame, write_frame
+    from blocwatch.pipeline.store import Store
+
+    out_dir = Path(out)
+    store_path = out_dir / "blocwatch.duckdb"
+    if store_path.exists():
+        store_path.unlink()  # the demo always starts from a fresh store
+    files = generate(out_dir / "data", seed=seed)
+    opts = BuildOptions() if bootstrap is None else BuildOptions(bootstrap=bootstrap)
+    with Store(store_path) as store:
+        ingest_files(store, [files.votes], body=BODY, members=files.roster)
+        run_build(store, options=opts, progress=_progress(ctx, "build"), command="demo")
+        frame = export_frame(store, "metrics")
+    csv_path = write_frame(frame, "csv", out_dir / "metrics.csv")
+    paths = _write_report(store_path, None, out_dir / "report", None, False)
+    pages = [p for p in paths if p.suffix == ".html" and p.parent == out_dir / "report"]
+    click.echo(f"store:   {store_path}")
+    for page in pages:
+        click.echo(f"page:    {page}")
+    click.echo(f"metrics: {csv_path}")

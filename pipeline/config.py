@@ -33,3 +33,12 @@ def default_store_path() -> Path:
         raise UsageError(f"config {CONFIG_NAME}: key 'store'", f"is {store!r}",
                          "set it to a file path, e.g. store = \"blocwatch.duckdb\"")
     return Path(store)
+
+
+def group_colours() -> dict[str, str]:
+    """Group → colour overrides from ``[colours]`` in ``blocwatch.toml`` (empty if none)."""
+    colours = load_config().get("colours", {})
+    if not isinstance(colours, dict) or not all(isinstance(v, str) for v in colours.values()):
+        raise UsageError(f"config {CONFIG_NAME}: table [colours]", f"is {colours!r}",
+                         'write one line per group, e.g. "Group name" = "#1f6f8b"')
+    return dict(colours)
