@@ -75,8 +75,11 @@ class Family:
     metrics: tuple[str, ...]
     func: Callable[[PeriodInput], dict[str, MetricValue]]
     bounds: dict[str, tuple[float, float]] = field(default_factory=dict)
-    # Whether the family's values change when members are relabelled (all should not).
+    # Metrics that get a label-permutation null.
     permutation_null: tuple[str, ...] = ()
+    # Costly families (an optimisation or a fit per call) get fewer bootstrap replicates and
+    # permutations: BuildOptions.expensive_replicates.
+    expensive: bool = False
 
 
 FAMILIES: dict[str, Family] = {}
@@ -84,17 +87,18 @@ FAMILIES: dict[str, Family] = {}
 
 def register(name: str, metrics: tuple[str, ...], *,
              bounds: dict[str, tuple[float, float]] | None = None,
-             permutation_null: tuple[str, ...] = ()):
+             permutation_null: tuple[str, ...] = (), expensive: bool = False):
     """Decorator: add a family to :data:`FAMILIES`.
 
     ``bounds`` gives the closed interval each metric must lie in (the invariance suite checks
-    it); ``permutation_null`` names the metrics that get a label-permutation null.
+    it); ``permutation_null`` names the metrics that get a label-permutation null;
+    ``expensive`` marks families whose every call fits or optimises something.
     """
 
     def deco(func: Callable[[PeriodInput], dict[str, MetricValue]]):
         if name in FAMILIES:
             raise ValueError(f"metric family {name!r} is registered twice")
-        FAMILIES[name] = Family(name, metrics, func, bounds or {}, permutation_null)
+        FAMILIES[name] = Family(name, metrics, func, bounds or {}, permutation_null, expensive)
         return func
 
     return deco

@@ -28,6 +28,9 @@ from blocwatch.pipeline.periods import DEFAULT_PERIOD
 
 DEFAULT_BOOTSTRAP = 200
 DEFAULT_PERMUTATIONS = 200
+# Replicates and permutations for families marked expensive (Louvain, CV fits, IRT): each call
+# costs milliseconds, so they get this many at most (documented in the README's defaults).
+DEFAULT_EXPENSIVE_REPLICATES = 40
 DEFAULT_SEED = 20240601
 METRIC_COLUMNS = ["metric", "value", "low", "high", "null_mean", "null_z", "null_p", "note"]
 
@@ -41,6 +44,7 @@ class BuildOptions:
     seed: int = DEFAULT_SEED
     bootstrap: int = DEFAULT_BOOTSTRAP
     permutations: int = DEFAULT_PERMUTATIONS
+    expensive_replicates: int = DEFAULT_EXPENSIVE_REPLICATES
     agreement: AgreementOptions = field(default_factory=AgreementOptions)
 
     def params(self) -> dict:
@@ -104,9 +108,13 @@ def _bootstrap(vm: VoteMatrix, labels: np.ndarray, opts: BuildOptions, seed: int
     blocks = vm.items if any(vm.items) else None
     w = ballot_weights(vm.votes.shape[1], opts.bootstrap, seed=seed, blocks=blocks)
     samples = np.full((opts.bootstrap, len(names)), np.nan)
+    cheap = [f.name for f in registry.FAMILIES.values() if not f.expensive]
     for r in range(opts.bootstrap):
-        values = compute_all(period_input(vm.votes, labels, opts, seed, weights=w[r]))
-        samples[r] = [values[m].value if values[m].ok else np.nan for m in names]
+        families = None if r < opts.expensive_replicates else cheap
+        values = compute_all(period_input(vm.votes, labels, opts, seed, weights=w[r]),
+                             families=families)
+        samples[r] = [values[m].value if m in values and values[m].ok else np.nan
+                      for m in names]
     return {m: percentile_interval(samples[:, j]) for j, m in enumerate(names)}
 
 
@@ -119,8 +127,9 @@ def _nulls(inp: PeriodInput, opts: BuildOptions, seed: int) -> dict[str, dict]:
             def stat(labels, _fam=fam, _metric=metric):
                 value = _fam.func(_replace_labels(inp, labels))[_metric]
                 return value.value if value.ok else np.nan
-            out[metric] = label_permutation_null(stat, inp.labels, n_perm=opts.permutations,
-                                                 seed=seed)
+            n_perm = min(opts.permutations, opts.expensive_replicates) if fam.expensive \
+                else opts.permutations
+            out[metric] = label_permutation_null(stat, inp.labels, n_perm=n_perm, seed=seed)
     return out
 
 
