@@ -86,8 +86,8 @@ def _progress(ctx: click.Context, label: str):
     return lambda step: click.echo(f"{label}: {step}", err=True)
 
 
-def build_options(period, rule, seed, bootstrap, permutations, abstain_as_position,
-                  min_shared, keep_unanimous, lopsided, min_share_cast):
+def build_options(period, rule, seed, bootstrap, permutations, expensive_replicates,
+                  abstain_as_position, min_shared, keep_unanimous, lopsided, min_share_cast):
     from blocwatch.pipeline.agreement import AgreementOptions
     from blocwatch.pipeline.compute import BuildOptions
     from blocwatch.pipeline.graphs import parse_rule
@@ -96,7 +96,7 @@ def build_options(period, rule, seed, bootstrap, permutations, abstain_as_positi
     parse_period_spec(period)
     parse_rule(rule)
     return BuildOptions(period=period, rule=rule, seed=seed, bootstrap=bootstrap,
-                        permutations=permutations,
+                        permutations=permutations, expensive_replicates=expensive_replicates,
                         agreement=AgreementOptions(abstain_as_position=abstain_as_position,
                                                    min_shared=min_shared,
                                                    drop_unanimous=not keep_unanimous,
@@ -111,7 +111,12 @@ def build_flags(func):
         DEFAULT_MIN_SHARE_CAST,
         DEFAULT_MIN_SHARED,
     )
-    from blocwatch.pipeline.compute import DEFAULT_BOOTSTRAP, DEFAULT_PERMUTATIONS, DEFAULT_SEED
+    from blocwatch.pipeline.compute import (
+        DEFAULT_BOOTSTRAP,
+        DEFAULT_EXPENSIVE_REPLICATES,
+        DEFAULT_PERMUTATIONS,
+        DEFAULT_SEED,
+    )
     from blocwatch.pipeline.graphs import DEFAULT_RULE
     from blocwatch.pipeline.periods import DEFAULT_PERIOD
 
@@ -127,6 +132,10 @@ def build_flags(func):
         click.option("--permutations", type=click.IntRange(min=0),
                      default=DEFAULT_PERMUTATIONS, show_default=True,
                      help="Label permutations for the null (0: no null)."),
+        click.option("--expensive-replicates", type=click.IntRange(min=0),
+                     default=DEFAULT_EXPENSIVE_REPLICATES, show_default=True,
+                     help="At most this many replicates and permutations for costly metrics "
+                          "(Louvain, cross-validated fits, ideal points)."),
         click.option("--abstain-as-position", is_flag=True,
                      help="Count abstain as a third position (default: like an absence)."),
         click.option("--min-shared", type=click.IntRange(min=1), default=DEFAULT_MIN_SHARED,
