@@ -17,6 +17,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
+
 from blocwatch.metrics.registry import ABSTAIN, NO, YES
 
 DEFAULT_MIN_SHARED = 5

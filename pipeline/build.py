@@ -9,6 +9,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
+
 from blocwatch.metrics.trends import trend_summary
 from blocwatch.pipeline.compute import BuildOptions, PeriodResult, compute_period, fingerprint
 from blocwatch.pipeline.errors import UsageError

@@ -13,6 +13,7 @@ import traceback
 from pathlib import Path
 
 import click
+
 from blocwatch.pipeline.errors import EXIT_FAILURE, EXIT_USAGE, BlocwatchError
 
 STORE_HELP = "DuckDB store file (default: ./blocwatch.duckdb, or the one blocwatch.toml names)."

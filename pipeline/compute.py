@@ -11,6 +11,7 @@ from dataclasses import asdict, dataclass, field
 
 import numpy as np
 import pandas as pd
+
 from blocwatch.metrics import PeriodInput, compute_all, registry
 from blocwatch.metrics.cohesion import group_agreement_matrix
 from blocwatch.metrics.member_registry import compute_members

@@ -19,6 +19,7 @@ from dataclasses import dataclass
 
 import networkx as nx
 import numpy as np
+
 from blocwatch.pipeline.errors import UsageError
 
 DEFAULT_RULE = "weighted"

@@ -11,6 +11,7 @@ from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
+
 from blocwatch.metrics.registry import ABSTAIN, MISSING, NO, YES
 from blocwatch.pipeline.periods import Period
 from blocwatch.pipeline.store import Store

@@ -6,6 +6,7 @@ import hashlib
 import json
 
 import pandas as pd
+
 from blocwatch.pipeline.build import bodies as known_bodies
 from blocwatch.pipeline.compute import BuildOptions
 from blocwatch.pipeline.errors import UsageError

@@ -6,6 +6,7 @@ from pathlib import Path
 
 import numpy as np
 import pandas as pd
+
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.store import Store
 

@@ -18,6 +18,7 @@ from typing import Any
 
 import duckdb
 import pandas as pd
+
 from blocwatch.pipeline.errors import BadInputError, StoreError
 
 SCHEMA_VERSION = 1

@@ -7,6 +7,7 @@ from fractions import Fraction
 
 import pandas as pd
 import pytest
+
 from blocwatch.pipeline.agreement import agreement_counts, agreement_matrix
 from blocwatch.pipeline.matrices import load_votes
 from blocwatch.pipeline.periods import make_periods
