@@ -11,10 +11,11 @@ from __future__ import annotations
 
 import networkx as nx
 import numpy as np
+from sklearn.metrics import adjusted_rand_score
+
 from blocwatch.metrics.modularity import _modularity
 from blocwatch.metrics.registry import MetricValue, PeriodInput, register
 from blocwatch.metrics.validation import check_adjacency, normalise_labels
-from sklearn.metrics import adjusted_rand_score
 
 __all__ = ["best_partition", "best_modularity", "communities", "community_group_ari"]
 

@@ -8,6 +8,7 @@ edge counting 1 (the weighted forms are available through ``weighted=True``).
 from __future__ import annotations
 
 import numpy as np
+
 from blocwatch.metrics.registry import MetricValue, PeriodInput, register
 from blocwatch.metrics.validation import check_adjacency, normalise_labels
 

@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import numpy as np
 import scipy.linalg
+
 from blocwatch.metrics.validation import check_distances, check_square
 
 __all__ = ["agreement_distances", "impute_distances", "classical_mds"]

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import networkx as nx
 import numpy as np
+
 from blocwatch.metrics.registry import MetricValue, PeriodInput, register
 from blocwatch.metrics.validation import check_adjacency, normalise_labels, one_hot
 

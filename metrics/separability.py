@@ -8,17 +8,33 @@ sees only the k-dimensional classical-MDS embedding.
 from __future__ import annotations
 
 import numpy as np
-from blocwatch.metrics.mds import agreement_distances, classical_mds, impute_distances
-from blocwatch.metrics.registry import MetricValue, PeriodInput, register
-from blocwatch.metrics.validation import check_distances, normalise_labels
 from sklearn.linear_model import LogisticRegression
 from sklearn.metrics import balanced_accuracy_score, silhouette_score
 from sklearn.model_selection import StratifiedKFold
+
+from blocwatch.metrics.mds import agreement_distances, classical_mds, impute_distances
+from blocwatch.metrics.registry import MetricValue, PeriodInput, register
+from blocwatch.metrics.validation import check_distances, normalise_labels
 
 __all__ = ["separability", "silhouette"]
 
 MIN_GROUP = 2  # members a group needs to take part in cross-validation
 MAX_SPLITS = 5
+
+
+def _canonical_order(d: np.ndarray, codes: np.ndarray, x: np.ndarray) -> np.ndarray:
+    """Member order that ignores roster order and group numbering: groups by size and mean
+    within-group distance, members by mean distance and |coordinates| (rounded so float
+    noise ties). StratifiedKFold numbers classes by first appearance, so with this order
+    the seeded folds are the same however members and groups are listed."""
+    same = codes[:, None] == codes[None, :]
+    sizes = np.bincount(codes)
+    within = np.bincount(codes, weights=np.where(same, d, 0.0).sum(axis=1))
+    within = within / np.maximum(sizes * (sizes - 1), 1)
+    group_rank = np.empty_like(sizes)
+    group_rank[np.lexsort(np.round([within, -sizes], 9))] = np.arange(sizes.size)
+    keys = np.vstack([np.abs(x).T[::-1], d.mean(axis=1), group_rank[codes]])
+    return np.lexsort(np.round(keys, 9))
 
 
 def _separability(d: np.ndarray, codes: np.ndarray, k: int, seed: int) -> tuple[float, str]:
@@ -29,16 +45,12 @@ def _separability(d: np.ndarray, codes: np.ndarray, k: int, seed: int) -> tuple[
         raise ValueError(f"labels: expected at least two groups of {MIN_GROUP}+ members, "
                          f"received group sizes {sorted(sizes.tolist(), reverse=True)}; "
                          "fix: separability needs two groups to tell apart")
+    keep = np.flatnonzero(np.isin(codes, keep_groups))
     x, lam = classical_mds(d, k, return_eigenvalues=True)
     if lam[0] > 0:  # one common scale, so regularisation means the same in every period
         x = x / np.sqrt(lam[0] / x.shape[0])
-    # Members in a permutation-invariant order (group, mean distance, then the
-    # coordinates) before the seeded shuffle, so the folds do not depend on roster order.
-    keep = np.flatnonzero(np.isin(codes, keep_groups))
-    dimp = impute_distances(d)
-    key = np.round(np.vstack([np.abs(x[keep]).T[::-1], dimp[keep].mean(axis=1),
-                              codes[keep]]), 9)
-    keep = keep[np.lexsort(key)]
+    keep = keep[_canonical_order(impute_distances(d)[np.ix_(keep, keep)], codes[keep],
+                                 x[keep])]
     xs, ys = x[keep], codes[keep]
     smallest = int(sizes[keep_groups].min())
     splits = min(MAX_SPLITS, smallest)
@@ -68,9 +80,10 @@ def separability(distances, labels, *, k: int = 2, seed: int = 0) -> float:
     .. math:: BA = \frac1G \sum_g \frac{\#\{i \in g: \hat y_i = g\}}{n_g},
 
     whose chance level is 1/G. Folds: ``StratifiedKFold`` with min(5, smallest group)
-    splits, shuffled with ``seed`` after ordering members by group, mean distance and
-    coordinates (so the value does not depend on roster order). Groups with fewer than 2
-    members are left out of the classification (they stay in the embedding).
+    splits, shuffled with ``seed`` after putting members in a canonical order (groups by
+    size and spread, members by mean distance and coordinates), so the value does not depend
+    on the order or numbering of members and groups. Groups with fewer than 2 members are
+    left out of the classification (they stay in the embedding).
 
     Parameters
     ----------

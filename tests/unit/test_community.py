@@ -3,6 +3,8 @@
 import networkx as nx
 import numpy as np
 import pytest
+from sklearn.metrics import adjusted_rand_score
+
 from blocwatch.metrics import PeriodInput
 from blocwatch.metrics.community import (
     _family,
@@ -12,7 +14,6 @@ from blocwatch.metrics.community import (
     community_group_ari,
 )
 from blocwatch.metrics.modularity import group_modularity
-from sklearn.metrics import adjusted_rand_score
 
 KARATE = nx.karate_club_graph()
 CLUB = [KARATE.nodes[u]["club"] for u in KARATE]

@@ -5,6 +5,7 @@ import itertools
 import networkx as nx
 import numpy as np
 import pytest
+
 from blocwatch.metrics import PeriodInput
 from blocwatch.metrics.crossgroup import (
     _family,

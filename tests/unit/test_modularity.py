@@ -3,6 +3,7 @@
 import networkx as nx
 import numpy as np
 import pytest
+
 from blocwatch.metrics import PeriodInput
 from blocwatch.metrics.modularity import _family, group_modularity, modularity_graph
 
