@@ -34,6 +34,9 @@ class PeriodInput:
     edges : (n, n) bool, the thresholded graph chosen by the rule, symmetric, zero diagonal.
     votes : (n, b) int8 codes MISSING/YES/NO/ABSTAIN, or None where not available.
     seed : int, for every random step (Louvain, CV splits).
+    scores : (n, b) float answers on the period's scored (non-yes/no) ballots, NaN where none
+        was given, or None for yes/no bodies (see :mod:`blocwatch.metrics.reliability`).
+    score_level : "nominal", "ordinal" or "interval": how ``scores`` are measured, or None.
     """
 
     agreement: np.ndarray
@@ -43,6 +46,8 @@ class PeriodInput:
     edges: np.ndarray
     votes: np.ndarray | None = None
     seed: int = 0
+    scores: np.ndarray | None = None
+    score_level: str | None = None
 
     @property
     def n(self) -> int:
