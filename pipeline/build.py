@@ -3,16 +3,16 @@
 from __future__ import annotations
 
 import json
-import time
-from collections.abc import Callable, Iterable
+from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
 
 from blocwatch.metrics.trends import trend_summary
-from blocwatch.pipeline.compute import BuildOptions, PeriodResult, compute_period, fingerprint
+from blocwatch.pipeline.compute import BuildOptions, PeriodResult, fingerprint
 from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.executors import Executor, ExecutorSpec, PeriodJob, make_executor
 from blocwatch.pipeline.matrices import ballot_date_range, load_votes
 from blocwatch.pipeline.periods import Period, make_periods
 from blocwatch.pipeline.runs import finish_run, start_run, tool_version
@@ -102,41 +102,59 @@ def write_trends(store: Store, run_id: int, body: str) -> None:
         store.insert_frame("trends", pd.DataFrame(rows))
 
 
+def _period_matrices(store: Store, body: str, periods: list[Period], opts: BuildOptions,
+                     version: str, stored: dict | None, report: BuildReport) -> Iterator:
+    """Each period's vote matrix, read when asked for; empty and (with ``stored``) unchanged
+    periods are passed over, the unchanged ones noted in ``report.skipped``."""
+    for period in periods:
+        vm = load_votes(store, body, period)
+        if vm.votes.size == 0:
+            continue
+        if stored is not None and stored.get(period.name) == fingerprint(vm, opts, version):
+            report.skipped.append((body, period.name))
+            continue
+        yield vm
+
+
 def build(store: Store, *, body: str | None = None, options: BuildOptions | None = None,
           only_changed: bool = False, progress: Callable[[str], None] | None = None,
-          command: str = "build") -> BuildReport:
+          command: str = "build", executor: ExecutorSpec | Executor | None = None,
+          inputs: dict | None = None) -> BuildReport:
     """Compute every period of every (or one) body and store the results.
 
     With ``only_changed`` a period whose fingerprint equals the stored one is skipped.
+    ``executor`` says where periods are computed (:mod:`blocwatch.pipeline.executors`;
+    default: serially in this process); an open :class:`Executor` is used and left open.
+    ``inputs`` (e.g. the files a rebuild loaded, with their sha256) goes into ``runs.inputs``.
     """
     opts = options or BuildOptions()
     version = tool_version()
     targets = bodies(store, body)
-    run_id = start_run(store, command, {"body": body, **opts.params()})
+    pool = executor if isinstance(executor, Executor) else make_executor(executor)
+    run_id = start_run(store, command, {"body": body, **opts.params()}, inputs)
     report = BuildReport(run_id)
     try:
         for b in targets:
             periods = body_periods(store, b, opts.period)
             stored = dict(store.rows("SELECT period, fingerprint FROM periods WHERE body = ?",
                                      [b]))
-            for period in periods:
-                t0 = time.perf_counter()
-                vm = load_votes(store, b, period)
-                if vm.votes.size == 0:
-                    continue
-                if only_changed and stored.get(period.name) == fingerprint(vm, opts, version):
-                    report.skipped.append((b, period.name))
-                    continue
-                res = compute_period(vm, opts, version)
+            # Matrices are read one at a time as the executor asks for them (streamed);
+            # results come back in period order and are written here, the single writer.
+            jobs = _period_matrices(store, b, periods, opts, version,
+                                    stored if only_changed else None, report)
+            for res, seconds in pool.map(PeriodJob(opts, version), jobs):
                 write_period(store, run_id, res)
-                report.periods.append((b, period.name))
-                report.seconds[(b, period.name)] = time.perf_counter() - t0
+                report.periods.append((b, res.period_name))
+                report.seconds[(b, res.period_name)] = seconds
                 if progress:
-                    progress(f"{b} {period.name}")
+                    progress(f"{b} {res.period_name}")
             drop_stale_periods(store, b, [p.name for p in periods])
             write_trends(store, run_id, b)
     except BaseException:
         finish_run(store, run_id, "failed", report.periods)
         raise
+    finally:
+        if pool is not executor:
+            pool.close()
     finish_run(store, run_id, "ok", report.periods)
     return report
