@@ -159,16 +159,27 @@ def build_flags(func):
 @store_option
 @click.option("--body", default=None, help="Only this body (default: every body in the store).")
 @build_flags
+@click.option("--jobs", type=click.IntRange(min=1), default=1, show_default=True,
+              help="Periods computed at once: 1 runs in this process, N > 1 uses N local "
+                   "worker processes (with --executor dask: workers of the local cluster).")
+@click.option("--executor", type=click.Choice(["local", "dask"]), default="local",
+              show_default=True, help="Where periods are computed (dask needs blocwatch[dask]).")
+@click.option("--scheduler", default=None, metavar="ADDRESS",
+              help="Dask scheduler, e.g. tcp://10.0.0.5:8786 (default with --executor dask: a "
+                   "local cluster of --jobs workers).")
 @click.pass_context
 @handle_errors
-def build(ctx, store_path, body, **flags):
+def build(ctx, store_path, body, jobs, executor, scheduler, **flags):
     """Compute every period's agreement graph and metrics and store them."""
     from blocwatch.pipeline.build import build as run_build
+    from blocwatch.pipeline.executors import ExecutorSpec
     from blocwatch.pipeline.store import Store
 
     opts = build_options(**flags)
+    where = ExecutorSpec(executor, jobs=jobs, scheduler=scheduler)
     with Store(resolve_store(store_path)) as store:
-        report = run_build(store, body=body, options=opts, progress=_progress(ctx, "build"))
+        report = run_build(store, body=body, options=opts, progress=_progress(ctx, "build"),
+                           executor=where)
     click.echo(f"run {report.run_id}: {len(report.periods)} period(s) computed")
 
 
