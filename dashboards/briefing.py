@@ -1,0 +1,130 @@
+"""The briefing page of one body: headline, trends, networks, groups, bridges, notes, methods."""
+
+from __future__ import annotations
+
+import pandas as pd
+
+from blocwatch.dashboards import labels, text
+from blocwatch.dashboards.chart import Chart, slug
+from blocwatch.dashboards.groups import bridge_label, heatmap_chart, top_bridges
+from blocwatch.dashboards.headline import headline, lead_metric, summary, trend_sentence
+from blocwatch.dashboards.html import chart_block, numbers_table, page
+from blocwatch.dashboards.network import network_chart
+from blocwatch.dashboards.periods import period_table
+from blocwatch.dashboards.safe import esc
+from blocwatch.dashboards.tables import ReportTables
+from blocwatch.dashboards.trends import change_points, trend_chart
+
+TREND_COLUMNS = {"period": "Period", "value": "Value", "low": "Low", "high": "High",
+                 "null_mean": "Shuffled-group mean", "n_members": "Members",
+                 "n_ballots": "Ballots", "change_point": "Change point", "note": "Note"}
+
+
+def chosen_periods(tables: ReportTables, body: str, periods: list[str] | None = None) -> list[str]:
+    """Periods for the network pictures: as given, else first, change point(s), last.
+
+    Only periods with member or tie data are eligible by default; order follows time.
+    """
+    order = period_table(tables.metrics[tables.metrics["body"] == body])["period"].tolist()
+    with_data = set(tables.edges.loc[tables.edges["body"] == body, "period"])
+    with_data |= set(tables.members.loc[tables.members["body"] == body, "period"])
+    order += sorted(with_data - set(order))
+    if periods is not None:
+        return [p for p in order if p in set(periods)] + [p for p in periods if p not in order]
+    eligible = [p for p in order if p in with_data]
+    if not eligible:
+        return []
+    lead = lead_metric(tables.metrics, body)
+    cps = [p for p in change_points(tables.trends, body, lead) if p in eligible][:2] if lead else []
+    pick = {eligible[0], eligible[-1], *cps}
+    return [p for p in eligible if p in pick]
+
+
+def build_briefing(tables: ReportTables, body: str, *, colours: dict[str, str],
+                   periods: list[str] | None = None, seed: int = 0, n_bridges: int = 3,
+                   max_edges: int = 3000, bridge: str | None = None) -> tuple[str, list[Chart]]:
+    """HTML of the briefing page for ``body`` and the charts on it (for embedding)."""
+    t = tables.for_body(body)
+    m = t.metrics
+    key = slug(body)
+    charts: list[Chart] = []
+    parts = [f"<header><p class='bw-kicker'>blocwatch briefing · voting patterns</p>"
+             f"<h1>{esc(body)}</h1>{_span(m)}</header>", _nav()]
+    parts.append(f"<section id='summary'><p class='bw-headline'>"
+                 f"{esc(headline(m, body, trends=t.trends))}</p>")
+    lead = lead_metric(m, body)
+    if lead and (sentence := trend_sentence(t.trends, body, lead)):
+        parts.append(f"<p>{esc(sentence)}</p>")
+    names = labels.ordered(m["metric"].dropna().unique())
+    others = [n for n in names if n != lead]
+    if others:
+        parts.append("<ul>" + "".join(f"<li>{esc(summary(m, body, n, trends=t.trends))}</li>"
+                                      for n in others) + "</ul>")
+    parts.append("</section><section id='trends'><h2>How the measures moved</h2>")
+    if not names:
+        parts.append("<p class='bw-muted'>Not computed: the results hold no metric for this "
+                     "body.</p>")
+    for name in names:
+        c = trend_chart(m, name, trends=t.trends)
+        charts.append(c)
+        parts.append(chart_block(c, f"bw-{key}-{c.name}", TREND_COLUMNS, metric=name))
+    chosen = chosen_periods(t, body, periods)
+    parts.append("</section><section id='networks'><h2>Who votes with whom</h2>")
+    if not chosen:
+        parts.append("<p class='bw-muted'>Not computed: no member or tie data in the results."
+                     "</p>")
+    for period in chosen:
+        c = network_chart(t.members, t.edges, body, period, colours=colours, bridge=bridge,
+                          seed=seed, max_edges=max_edges)
+        charts.append(c)
+        cols = {"name": "Member", "group_name": "Group"}
+        cols |= {k: labels.member_label(k) for k in c.data.columns
+                 if k not in ("member_id", "name", "group_name", "x", "y")}
+        parts.append(chart_block(c, f"bw-{key}-{c.name}", cols, tall=True))
+    parts.append("</section><section id='groups'><h2>Agreement between groups</h2>")
+    heat_periods = chosen or period_table(m)["period"].tolist()[-1:]
+    c = heatmap_chart(t.group_agreement, body, heat_periods)
+    charts.append(c)
+    parts.append(chart_block(c, f"bw-{key}-{c.name}", {
+        "period": "Period", "group_a": "Group", "group_b": "Group", "agreement": "Agreement",
+        "n_pairs": "Pairs"}))
+    parts.append(_bridges(t, body, n_bridges, bridge))
+    parts.append(text.reading_html())
+    parts.append(text.methods_html(names, sorted(t.members["metric"].dropna().unique())))
+    parts.append(text.provenance_html(tables.provenance, sorted(m["run_id"].dropna().unique())))
+    html = page(f"{body} — blocwatch briefing", "\n".join(parts),
+                charts=any(not c.empty for c in charts))
+    return html, charts
+
+
+def _bridges(t: ReportTables, body: str, n: int, bridge: str | None) -> str:
+    order = period_table(t.metrics)["period"].tolist()
+    order += sorted(set(t.members["period"].dropna()) - set(order))
+    table, used = top_bridges(t.members, body, order, n=n, metric=bridge)
+    head = "<section id='bridges'><h2>Members who bridge groups</h2>"
+    if table.empty:
+        return (head + "<p class='bw-muted'>Not computed: no member scores in the results.</p>"
+                "</section>")
+    label = bridge_label(used)
+    intro = (f"<p>The {n} members with the highest {esc(label.lower())} in each period. This is "
+             "a description of recorded votes, not a judgement of anyone: see the notes "
+             "below.</p>")
+    return head + intro + numbers_table(table, {
+        "period": "Period", "rank": "Rank", "name": "Member", "group": "Group",
+        "score": label}, metric=used or "") + "</section>"
+
+
+def _span(m: pd.DataFrame) -> str:
+    p = period_table(m)
+    if p.empty:
+        return ""
+    return (f"<p class='bw-kicker'>{len(p)} periods, {esc(p['period'].iloc[0])} to "
+            f"{esc(p['period'].iloc[-1])}</p>")
+
+
+def _nav() -> str:
+    links = [("summary", "Summary"), ("trends", "Trends"), ("networks", "Networks"),
+             ("groups", "Groups"), ("bridges", "Bridges"), ("reading", "Reading these figures"),
+             ("methods", "Methods"), ("provenance", "Provenance")]
+    return ("<nav class='bw-nav' aria-label='Sections'>"
+            + "".join(f"<a href='#{a}'>{t}</a>" for a, t in links) + "</nav>")

@@ -1,0 +1,135 @@
+"""HTML building blocks: chart blocks, number tables, the page shell and its security policy.
+
+Charts are stored as JSON data blocks (``<script type="application/json">``, never executed) and
+drawn by one small render script, so a page carries exactly two scripts: plotly.js and the
+renderer. The page's Content-Security-Policy allows those two by hash and nothing else — no
+network source of any kind, no other inline script — so even a string that slipped past escaping
+could not run.
+"""
+
+from __future__ import annotations
+
+import base64
+import hashlib
+import json
+import re
+from functools import lru_cache
+from pathlib import Path
+
+import pandas as pd
+import plotly
+
+from blocwatch.dashboards import labels
+from blocwatch.dashboards.chart import Chart
+from blocwatch.dashboards.safe import esc, script_json
+from blocwatch.dashboards.style import CSS
+
+RENDER_JS = """(function () {
+  var divs = document.querySelectorAll("div[data-bw-spec]");
+  window.__bwCharts = divs.length; window.__bwRendered = 0; window.__bwErrors = [];
+  divs.forEach(function (div) {
+    try {
+      var spec = JSON.parse(document.getElementById(div.getAttribute("data-bw-spec")).textContent);
+      Plotly.newPlot(div, spec.data, spec.layout, spec.config).then(
+        function () { window.__bwRendered += 1; },
+        function (e) { window.__bwErrors.push(String(e)); });
+    } catch (e) { window.__bwErrors.push(String(e)); }
+  });
+  window.addEventListener("beforeprint", function () {
+    document.querySelectorAll("details").forEach(function (d) { d.open = true; });
+  });
+})();"""
+
+
+@lru_cache(maxsize=1)
+def plotly_js() -> str:
+    """The plotly.js bundle shipped inside the plotly package (read once, never fetched)."""
+    path = Path(plotly.__file__).parent / "package_data" / "plotly.min.js"
+    text = path.read_text(encoding="utf-8")
+    # The bundle must not be able to end its own <script> element; "<\\/" means the same in JS.
+    return re.sub(r"</(script)", r"<\\/\1", text, flags=re.IGNORECASE)
+
+
+def _sha256(text: str) -> str:
+    return "'sha256-" + base64.b64encode(hashlib.sha256(text.encode()).digest()).decode() + "'"
+
+
+def csp(scripts: list[str]) -> str:
+    """Content-Security-Policy allowing exactly ``scripts`` (by hash) and inline styles."""
+    allowed = " ".join(_sha256(s) for s in scripts) or "'none'"
+    return ("default-src 'none'; script-src " + allowed
+            + "; style-src 'unsafe-inline'; img-src data: blob:; font-src data:; "
+            "connect-src 'none'; base-uri 'none'; form-action 'none'")
+
+
+def spec_json(chart: Chart) -> str:
+    """The chart's plotly JSON spec (data, layout, config) as text."""
+    spec = json.loads(chart.fig.to_json())
+    spec["config"] = {"responsive": True, "displaylogo": False,
+                      "modeBarButtonsToRemove": ["select2d", "lasso2d"],
+                      "toImageButtonOptions": {"filename": chart.name}}
+    return json.dumps(spec, separators=(",", ":"))
+
+
+def chart_div(chart: Chart, dom_id: str, *, tall: bool = False) -> str:
+    """The plot ``<div>`` and its JSON data block (rendered by RENDER_JS or a snippet script)."""
+    css = "bw-chart bw-tall" if tall else "bw-chart"
+    return (f'<div id="{esc(dom_id)}" class="{css}" role="img" aria-label="{esc(chart.alt)}"'
+            f' data-bw-spec="{esc(dom_id)}-spec"></div>\n'
+            f'<script type="application/json" id="{esc(dom_id)}-spec">'
+            f"{script_json(spec_json(chart))}</script>")
+
+
+INT_COLUMNS = {"n_members", "n_ballots", "n_pairs", "rank", "n_periods", "cross_partners"}
+VALUE_COLUMNS = {"value", "low", "high", "null_mean", "score"}
+
+
+def _cell(col: str, v, metric: str) -> str:
+    if v is None or (not isinstance(v, str) and pd.isna(v)):
+        return "<td></td>"
+    if isinstance(v, pd.Timestamp):
+        return f"<td>{v:%Y-%m-%d}</td>"
+    if isinstance(v, bool):
+        return f"<td>{'yes' if v else ''}</td>"
+    if isinstance(v, (int, float)):
+        kind = "communities" if col in INT_COLUMNS else metric if col in VALUE_COLUMNS else col
+        return f"<td class='num'>{esc(labels.fmt(v, kind))}</td>"
+    return f"<td>{esc(v)}</td>"
+
+
+def numbers_table(frame: pd.DataFrame, columns: dict[str, str], *, metric: str = "") -> str:
+    """An HTML table of ``frame[columns]`` with escaped cells and formatted numbers."""
+    if frame.empty:
+        return "<p class='bw-muted'>No numbers.</p>"
+    columns = {c: label for c, label in columns.items() if c in frame.columns}
+    head = "".join(f"<th scope='col'>{esc(label)}</th>" for label in columns.values())
+    rows = ["<tr>" + "".join(_cell(c, v, metric) for c, v in rec.items()) + "</tr>"
+            for rec in frame[list(columns)].to_dict("records")]
+    return (f"<div class='bw-scroll'><table><thead><tr>{head}</tr></thead>"
+            f"<tbody>{''.join(rows)}</tbody></table></div>")
+
+
+def chart_block(chart: Chart, dom_id: str, columns: dict[str, str], *, metric: str = "",
+                tall: bool = False) -> str:
+    """A ``<figure>``: the chart (or "not computed"), caption, alt text and its numbers."""
+    if chart.empty:
+        return (f"<figure class='bw-figure bw-empty'><h3>{esc(chart.title)}</h3>"
+                f"<p class='bw-muted'>{esc(chart.note or 'Not computed.')}</p></figure>")
+    note = f"<p class='bw-note'>{esc(chart.note)}</p>" if chart.note else ""
+    div = chart_div(chart, dom_id, tall=tall)
+    return (f"<figure class='bw-figure' id='{esc(dom_id)}-figure'>\n{div}\n"
+            f"<figcaption><p class='bw-alt'>{esc(chart.alt)}</p>{note}"
+            f"<details><summary>Numbers behind this chart</summary>"
+            f"{numbers_table(chart.data, columns, metric=metric)}</details></figcaption></figure>")
+
+
+def page(title: str, body_html: str, *, charts: bool = True) -> str:
+    """A complete offline page: inline CSS, plotly.js inline once, the renderer, strict CSP."""
+    scripts = [plotly_js(), RENDER_JS] if charts else []
+    tail = "".join(f"<script>{s}</script>\n" for s in scripts)
+    return (
+        "<!DOCTYPE html>\n<html lang='en'>\n<head>\n<meta charset='utf-8'>\n"
+        "<meta name='viewport' content='width=device-width, initial-scale=1'>\n"
+        f'<meta http-equiv="Content-Security-Policy" content="{csp(scripts)}">\n'
+        f"<meta name='generator' content='blocwatch'>\n<title>{esc(title)}</title>\n"
+        f"<style>{CSS}</style>\n</head>\n<body>\n{body_html}\n{tail}</body>\n</html>\n")

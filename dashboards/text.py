@@ -1,0 +1,86 @@
+"""Fixed prose of the pages: reading notes, methods list and the provenance footer."""
+
+from __future__ import annotations
+
+import json
+from importlib import metadata
+
+from blocwatch.dashboards import labels
+from blocwatch.dashboards.safe import esc
+
+READING = (
+    "These figures describe how members voted, not why. Agreement can come from shared views, "
+    "bargains, group discipline or simply a shared agenda; roll-call records cannot tell these "
+    "apart.",
+    "What comes to a vote moves every measure. A period of routine, consensual business reads as "
+    "low polarisation and a period of contested items as high, with the same members; read a "
+    "change beside what was on the agenda.",
+    "Small bodies, small groups and periods with few contested ballots give wide intervals. "
+    "Where the shaded bands of two periods overlap, the records do not show a clear difference.",
+    "Member-level scores (bridge scores, positions, loyalty) are descriptive summaries of "
+    "recorded votes. They must not be used to single out, rank or target individual people.",
+    "An empty value means the measure could not be computed for that period (for example, only "
+    "one group was present); the reason is listed in the chart's numbers.",
+)
+
+EXTRA_METHODS = (
+    ("Shaded bands", "intervals stored with the results (see the run parameters in the footer "
+     "for how they were made); absent where the run computed none.", ""),
+    ("Dotted lines", "the mean of the measure with group labels shuffled among the members "
+     "present, group sizes kept: the level to expect if groups did not matter.", ""),
+    ("Trend test", "Mann–Kendall test with Kendall's τ, and the Theil–Sen slope per period.",
+     f"{labels.REFS['mk']} {labels.REFS['sen']}"),
+    ("Change points", "penalised change-point detection (PELT) on each series.",
+     labels.REFS["pelt"]),
+    ("Network layout", "stored map positions where present, else a seeded force-directed "
+     "layout (networkx spring layout). Layout is for reading only: it is not a measure.",
+     "Fruchterman, T. M. J. & Reingold, E. M. (1991). Graph drawing by force-directed "
+     "placement. Software: Practice and Experience 21(11), 1129–1164."),
+)
+
+
+def _cap(text: str) -> str:
+    return text[:1].upper() + text[1:]
+
+
+def reading_html() -> str:
+    items = "".join(f"<li>{esc(t)}</li>" for t in READING)
+    return (f"<section id='reading'><h2>Reading these figures</h2>"
+            f"<div class='bw-caution'><ul>{items}</ul></div></section>")
+
+
+def methods_html(metric_names: list[str], member_metric_names: list[str]) -> str:
+    rows = []
+    for m in labels.ordered(metric_names):
+        i = labels.info(m)
+        ref = f"<br><span class='bw-ref'>{esc(i.reference)}</span>" if i.reference else ""
+        rows.append(f"<dt>{esc(i.label)} <code>{esc(m)}</code></dt>"
+                    f"<dd>{esc(_cap(i.what))}.{ref}</dd>")
+    for title, what, ref in EXTRA_METHODS:
+        ref_html = f"<br><span class='bw-ref'>{esc(ref)}</span>" if ref else ""
+        rows.append(f"<dt>{esc(title)}</dt><dd>{esc(_cap(what))}{ref_html}</dd>")
+    if member_metric_names:
+        names = ", ".join(f"{labels.member_label(m)} ({m})" for m in sorted(member_metric_names))
+        rows.append(f"<dt>Member scores</dt><dd>{esc(names)}; as stored with the results.</dd>")
+    return (f"<section id='methods'><h2>Methods</h2><dl class='bw-methods'>{''.join(rows)}"
+            "</dl></section>")
+
+
+def _version() -> str:
+    try:
+        return metadata.version("blocwatch")
+    except metadata.PackageNotFoundError:  # running from a source tree without install
+        return "unknown"
+
+
+def provenance_html(provenance: dict, run_ids: list[str]) -> str:
+    items = dict(provenance)
+    items.setdefault("tool_version", _version())
+    if run_ids and "run_id" not in items:
+        items["run_id"] = ", ".join(run_ids)
+    rows = []
+    for key, value in items.items():
+        text = value if isinstance(value, str) else json.dumps(value, default=str, sort_keys=True)
+        rows.append(f"<dt>{esc(str(key).replace('_', ' '))}</dt><dd>{esc(text)}</dd>")
+    return (f"<footer id='provenance'><p>Made by blocwatch from stored results. Provenance:</p>"
+            f"<dl>{''.join(rows)}</dl></footer>")

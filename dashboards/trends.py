@@ -1,0 +1,150 @@
+"""Trend figures: one metric over periods, one line per body.
+
+Each body gets a line with markers, a shaded band where the table has an interval (low/high), a
+dotted line for the null mean where present (the value expected with shuffled groups), and open
+diamonds at the change points the trends table names. Empty values stay gaps: nothing is
+interpolated.
+"""
+
+from __future__ import annotations
+
+import json
+
+import pandas as pd
+import plotly.graph_objects as go
+
+from blocwatch.dashboards import labels, palette
+from blocwatch.dashboards.chart import Chart
+from blocwatch.dashboards.periods import is_dated, period_table
+from blocwatch.dashboards.safe import esc
+
+
+def change_points(trends: pd.DataFrame | None, body: str, metric: str) -> list[str]:
+    """Period names listed as change points for ``body`` × ``metric`` (empty when none)."""
+    if trends is None or trends.empty:
+        return []
+    rows = trends[(trends["body"] == body) & (trends["metric"] == metric)]
+    out: list[str] = []
+    for raw in rows["change_points"].dropna():
+        try:
+            value = json.loads(raw)
+        except (TypeError, ValueError):
+            value = [p.strip() for p in str(raw).split(",") if p.strip()]
+        out.extend(str(v) for v in (value if isinstance(value, list) else [value]))
+    return out
+
+
+def _series(metrics: pd.DataFrame, metric: str, trends) -> pd.DataFrame:
+    rows = metrics[metrics["metric"] == metric]
+    periods = period_table(metrics)
+    data = periods.merge(rows.drop(columns=["period_start", "period_end"]),
+                         on=["body", "period"], how="inner")
+    data["change_point"] = False
+    for body in data["body"].unique():
+        cps = set(change_points(trends, body, metric))
+        data.loc[(data["body"] == body) & data["period"].isin(cps), "change_point"] = True
+    keep = ["body", "period", "period_start", "period_end", "x", "value", "low", "high",
+            "null_mean", "n_members", "n_ballots", "change_point", "note"]
+    return data[keep].reset_index(drop=True)
+
+
+def _hover(label: str) -> str:
+    return ("<b>%{customdata[0]}</b> · %{customdata[1]}<br>" + esc(label)
+            + ": %{y:.3f}%{customdata[2]}<br>members %{customdata[3]}, ballots %{customdata[4]}"
+            "%{customdata[5]}<extra></extra>")
+
+
+def _customdata(g: pd.DataFrame, metric: str) -> list[list[str]]:
+    rows = []
+    for r in g.itertuples():
+        interval = labels.fmt_interval(r.value, r.low, r.high, metric)
+        interval = interval[interval.find(" "):] if "[" in interval else ""
+        note = f"<br>{esc(r.note)}" if r.note else ""
+        rows.append([esc(r.body), esc(r.period), esc(interval),
+                     labels.fmt(r.n_members, "communities"),
+                     labels.fmt(r.n_ballots, "communities"), note])
+    return rows
+
+
+def trend_chart(metrics: pd.DataFrame, metric: str, *, trends: pd.DataFrame | None = None,
+                name_prefix: str = "trend") -> Chart:
+    """Figure of ``metric`` over periods for every body in ``metrics``.
+
+    Parameters
+    ----------
+    metrics : DataFrame
+        The ``ReportTables.metrics`` frame (any number of bodies).
+    metric : str
+        Metric name; unknown names are drawn with a generic label.
+    trends : DataFrame, optional
+        ``ReportTables.trends``; its ``change_points`` become markers.
+    name_prefix : str
+        File stem prefix of the chart (``trend`` gives ``trend-<metric>``).
+    """
+    info = labels.info(metric)
+    data = _series(metrics, metric, trends)
+    fig = go.Figure()
+    bodies = list(dict.fromkeys(data["body"]))
+    for i, body in enumerate(bodies):
+        g = data[data["body"] == body]
+        colour = palette.series_colour(i)
+        group = f"body{i}"
+        if g["low"].notna().any() and g["high"].notna().any():
+            fig.add_scatter(x=g["x"], y=g["high"], mode="lines", line=dict(width=0),
+                            name=esc(f"{body}: interval"), legendgroup=group,
+                            showlegend=False, hoverinfo="skip")
+            fig.add_scatter(x=g["x"], y=g["low"], mode="lines", line=dict(width=0),
+                            fill="tonexty", fillcolor=palette.with_alpha(colour, 0.18),
+                            name=esc(f"{body}: interval"), legendgroup=group, hoverinfo="skip")
+        if g["null_mean"].notna().any():
+            fig.add_scatter(x=g["x"], y=g["null_mean"], mode="lines",
+                            line=dict(color=colour, width=1.2, dash="dot"),
+                            name=esc(f"{body}: shuffled-group expectation"), legendgroup=group,
+                            hoverinfo="skip")
+        fig.add_scatter(x=g["x"], y=g["value"], mode="lines+markers", name=esc(body),
+                        legendgroup=group, line=dict(color=colour, width=2.4),
+                        marker=dict(size=6, color=colour), connectgaps=False,
+                        customdata=_customdata(g, metric), hovertemplate=_hover(info.label))
+        cp = g[g["change_point"]]
+        if len(cp):
+            fig.add_scatter(x=cp["x"], y=cp["value"], mode="markers",
+                            name=esc(f"{body}: change point"), legendgroup=group,
+                            marker=dict(symbol="diamond-open", size=15, color=colour,
+                                        line=dict(width=2.4)),
+                            customdata=_customdata(cp, metric),
+                            hovertemplate="change point · " + _hover(info.label))
+    dated = is_dated(period_table(metrics))
+    empty = data["value"].notna().sum() == 0
+    fig.update_layout(
+        template=palette.template(), title=dict(text=esc(info.label)),
+        xaxis=dict(title=dict(text="Period (middle)" if dated else "Period"),
+                   type="date" if dated else "category"),
+        yaxis=dict(title=dict(text=esc(info.label))), showlegend=True, height=400,
+        legend=dict(traceorder="normal"))
+    return Chart(name=f"{name_prefix}-{metric}", title=info.label, fig=fig,
+                 alt=_alt(data, info.label, metric), data=data,
+                 note=_empty_note(metrics, metric) if empty else "", empty=empty)
+
+
+def _empty_note(metrics: pd.DataFrame, metric: str) -> str:
+    notes = metrics.loc[metrics["metric"] == metric, "note"].dropna().unique()
+    why = "; ".join(notes[:3]) if len(notes) else "no value in the results"
+    return f"Not computed: {why}."
+
+
+def _alt(data: pd.DataFrame, label: str, metric: str) -> str:
+    bodies = list(dict.fromkeys(data["body"]))
+    have = data[data["value"].notna()]
+    if have.empty:
+        return f"{label}: not computed for any period."
+    first, last = data["period"].iloc[0], data["period"].iloc[-1]
+    who = bodies[0] if len(bodies) == 1 else f"{len(bodies)} bodies ({', '.join(bodies)})"
+    text = (f"Line chart of {label} for {who} over {data['period'].nunique()} periods from "
+            f"{first} to {last}; values range from {labels.fmt(have['value'].min(), metric)} to "
+            f"{labels.fmt(have['value'].max(), metric)}.")
+    if data["low"].notna().any():
+        text += " A shaded band shows each period's interval."
+    cps = data.loc[data["change_point"], "period"].tolist()
+    if cps:
+        text += f" Change points are marked at {', '.join(dict.fromkeys(cps))}."
+    return text
