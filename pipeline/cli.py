@@ -57,11 +57,24 @@ def store_option(func):
 @click.version_option(package_name="blocwatch")
 @click.option("--debug", is_flag=True, help="Show a traceback on errors.")
 @click.option("--quiet", "-q", is_flag=True, help="No progress output.")
+@click.option("--config", "config_path", type=click.Path(), envvar="BLOCWATCH_CONFIG",
+              default=None, help="Project config file (default: ./blocwatch.toml if present; "
+                                 "env BLOCWATCH_CONFIG). Flags win over its values.")
 @click.pass_context
-def cli(ctx: click.Context, debug: bool, quiet: bool) -> None:
+def cli(ctx: click.Context, debug: bool, quiet: bool, config_path: str | None) -> None:
     """Track polarisation in co-voting and agreement networks."""
     ctx.ensure_object(dict)
     ctx.obj["quiet"] = quiet
+    if ctx.invoked_subcommand != "init":  # init writes the config; it must not need one
+        _apply_config(ctx, config_path)
+
+
+@handle_errors
+def _apply_config(ctx: click.Context, config_path: str | None) -> None:
+    """Defaults of every flag from the project config (bad keys: one line, exit 2)."""
+    from blocwatch.pipeline.configflags import apply_config
+
+    apply_config(ctx, config_path)
 
 
 def main(argv: list[str] | None = None) -> None:
@@ -173,11 +186,11 @@ def build(ctx, store_path, body, jobs, executor, scheduler, **flags):
     """Compute every period's agreement graph and metrics and store them."""
     from blocwatch.pipeline.build import build as run_build
     from blocwatch.pipeline.executors import ExecutorSpec
-    from blocwatch.pipeline.store import Store
+    from blocwatch.pipeline.lock import locked_store
 
     opts = build_options(**flags)
     where = ExecutorSpec(executor, jobs=jobs, scheduler=scheduler)
-    with Store(resolve_store(store_path)) as store:
+    with locked_store(resolve_store(store_path), "build") as store:
         report = run_build(store, body=body, options=opts, progress=_progress(ctx, "build"),
                            executor=where)
     click.echo(f"run {report.run_id}: {len(report.periods)} period(s) computed")
@@ -275,3 +288,109 @@ def demo(ctx, out, seed, bootstrap):
     for page in pages:
         click.echo(f"page:    {page}")
     click.echo(f"metrics: {csv_path}")
+
+
+@cli.command()
+@click.argument("directory", default=".", type=click.Path(file_okay=False))
+@click.option("--body", default=None,
+              help="Name of the first body (its [bodies] table is written active).")
+@click.option("--force", is_flag=True, help="Overwrite an existing blocwatch.toml.")
+@handle_errors
+def init(directory, body, force):
+    """Write a commented blocwatch.toml (and a data/ folder) into DIRECTORY."""
+    from blocwatch.pipeline.template import init_project
+
+    path = init_project(directory, cli, body=body, force=force)
+    click.echo(f"wrote {path}")
+    click.echo(f"next: put the ballot files in {path.parent / 'data'}, edit the [bodies] "
+               f"table, then run 'blocwatch --config {path} rebuild'")
+
+
+@cli.command()
+@store_option
+@click.option("--body", default=None, help="Only this configured body (default: all).")
+@click.option("--full", is_flag=True, help="Recompute every period and rewrite the report.")
+@click.option("--out", type=click.Path(file_okay=False), default=None,
+              help="Report folder (default: the config's output, else ./blocwatch-report).")
+@click.option("--report/--no-report", "with_report", default=True, show_default=True,
+              help="Rewrite the report after recomputing.")
+@click.option("--images/--no-images", default=False, show_default=True,
+              help="Also write PNG and SVG with the report (needs Chromium or Chrome).")
+@build_flags
+@click.pass_context
+@handle_errors
+def rebuild(ctx, store_path, body, full, out, with_report, images, **flags):
+    """Load new or changed source files, recompute the stale periods, rewrite the report.
+
+    Files come from the [bodies] tables of blocwatch.toml. With nothing new it writes nothing
+    and says so. Exits 75 when another run holds the store's lock.
+    """
+    from blocwatch.pipeline.config import default_output
+    from blocwatch.pipeline.rebuild import rebuild as run_rebuild
+
+    opts = build_options(**flags)
+    store = resolve_store(store_path)
+    out_dir = Path(out) if out else default_output()
+    write = (lambda: _write_report(store, body, out_dir, None, images)) if with_report else None
+    result = run_rebuild(store, options=opts, body=body, full=full,
+                         out=out_dir if with_report else None, write_outputs=write,
+                         progress=_progress(ctx, "rebuild"))
+    for src in result.ingested:
+        click.echo(f"loaded: {src.path} ({src.state})")
+    click.echo(result.summary())
+    if result.outputs:
+        click.echo(f"wrote {len(result.outputs)} file(s) to {out_dir}")
+
+
+@cli.command()
+@store_option
+@click.option("--body", default=None, help="Only this body.")
+@click.option("--json", "as_json", is_flag=True, help="Print the status as JSON.")
+@build_flags
+@handle_errors
+def status(store_path, body, as_json, **flags):
+    """Bodies, periods, last ingest per body, stale periods, and the last run's outcome.
+
+    Stale is judged against the build flags (from blocwatch.toml unless given).
+    """
+    from blocwatch.pipeline.status import status as store_status
+
+    result = store_status(resolve_store(store_path), options=build_options(**flags), body=body)
+    click.echo(result.to_json() if as_json else "\n".join(result.lines()))
+
+
+@cli.command()
+@click.option("--cron", is_flag=True, help="Print a crontab line.")
+@click.option("--systemd", "systemd_dir", type=click.Path(file_okay=False), default=None,
+              help="Write NAME.service and NAME.timer into this folder.")
+@click.option("--project", type=click.Path(file_okay=False), default=None,
+              help="Project folder holding blocwatch.toml (default: the config's folder, else "
+                   "the current one).")
+@click.option("--when", type=click.Choice(["hourly", "daily", "weekly", "monthly", "yearly"]),
+              default="daily", show_default=True, help="How often to rebuild.")
+@click.option("--at", default="03:17", show_default=True, help="Time of day, HH:MM.")
+@click.option("--name", default="blocwatch-rebuild", show_default=True,
+              help="systemd unit name.")
+@click.option("--user", default=None, help="User= line for a system-wide service.")
+@handle_errors
+def schedule(cron, systemd_dir, project, when, at, name, user):
+    """Schedule 'blocwatch rebuild': a crontab line, or a systemd service + timer."""
+    from blocwatch.pipeline.config import active_config
+    from blocwatch.pipeline.errors import UsageError
+    from blocwatch.pipeline.schedule import cron_line, write_systemd
+
+    if cron == (systemd_dir is not None):
+        raise UsageError("schedule", "needs exactly one of --cron or --systemd DIR",
+                         "e.g. 'blocwatch schedule --cron' or "
+                         "'blocwatch schedule --systemd ~/.config/systemd/user'")
+    cfg = active_config().path
+    folder = project or (cfg.parent if cfg else ".")
+    if cron:
+        click.echo(cron_line(folder, when=when, at=at, config=cfg if not project else None))
+        return
+    paths = write_systemd(systemd_dir, folder, when=when, at=at,
+                          config=cfg if not project else None, name=name, user=user)
+    for path in paths:
+        click.echo(f"wrote {path}")
+    click.echo(f"enable: systemctl --user daemon-reload && systemctl --user enable --now "
+               f"{name}.timer (or copy to /etc/systemd/system and drop --user)")

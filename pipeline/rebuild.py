@@ -1,0 +1,199 @@
+"""``blocwatch rebuild``: load what is new, recompute what changed, redraw the outputs.
+
+A rebuild, under the store's lock (:mod:`blocwatch.pipeline.lock`):
+
+1. hashes every file the config's ``sources`` globs match (sha256) and loads the ones whose
+   content the store has not seen for that body — a file seen before under the same path with
+   other content is *changed* and replaces its votes;
+2. works out the stale body × period pairs: a period whose fingerprint (its votes, the groups
+   in force, the parameters, the tool version) differs from the stored one, a period not built
+   yet, a stored period the period spec no longer produces, and a body whose trends are older
+   than its periods (a run killed between its last period and its trends);
+3. if anything is stale, runs :func:`~blocwatch.pipeline.build.build` with ``only_changed``
+   (every period is swapped in within one transaction) and then the ``write_outputs`` callback.
+
+With nothing new it writes nothing at all — no run row either — and says so. ``full`` forces
+every period to be recomputed and the outputs rewritten. Every step is safe to kill: a load is
+one transaction, a period is one transaction, and whatever a killed run left undone is stale
+for the next one.
+"""
+
+from __future__ import annotations
+
+import hashlib
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from blocwatch.pipeline.build import BuildReport, body_periods, build
+from blocwatch.pipeline.compute import BuildOptions, fingerprint
+from blocwatch.pipeline.config import Config, active_config, body_ingest_options, body_sources
+from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.lock import store_lock
+from blocwatch.pipeline.matrices import load_votes
+from blocwatch.pipeline.runs import tool_version
+from blocwatch.pipeline.store import Store
+
+_CHUNK = 1 << 20
+
+
+def file_sha256(path: str | Path) -> str:
+    h = hashlib.sha256()
+    with open(path, "rb") as fh:
+        while chunk := fh.read(_CHUNK):
+            h.update(chunk)
+    return h.hexdigest()
+
+
+@dataclass(frozen=True)
+class SourceFile:
+    body: str
+    path: Path
+    sha256: str
+    state: str  # "new", "changed" (same path, other content) or "loaded"
+
+
+@dataclass(frozen=True)
+class Stale:
+    body: str
+    period: str | None  # None: the body's trends
+    reason: str  # "new", "changed", "removed", "trends"
+
+
+@dataclass
+class RebuildReport:
+    sources: list[SourceFile] = field(default_factory=list)
+    ingested: list[SourceFile] = field(default_factory=list)
+    stale: list[Stale] = field(default_factory=list)
+    build: BuildReport | None = None
+    outputs: list[Path] = field(default_factory=list)
+
+    @property
+    def nothing_to_do(self) -> bool:
+        return self.build is None and not self.ingested
+
+    def summary(self) -> str:
+        files = f"{len(self.sources)} source file(s), {len(self.ingested)} loaded"
+        if self.nothing_to_do:
+            return f"nothing to do: {files}; every period is up to date"
+        if self.build is None:
+            return f"{files}; no period changed, nothing recomputed"
+        return (f"run {self.build.run_id}: {files}; {len(self.build.periods)} period(s) "
+                f"recomputed, {len(self.build.skipped)} unchanged")
+
+
+def _config_bodies(cfg: Config, body: str | None) -> list[str]:
+    names = list(cfg.bodies)
+    if body is None:
+        return names
+    return [body] if body in names else []
+
+
+def scan_sources(store: Store | None, cfg: Config, body: str | None = None) -> list[SourceFile]:
+    """Every file the configured globs match, with its state against the store's load log."""
+    out = []
+    for name in _config_bodies(cfg, body):
+        loaded: dict[str, set[str]] = {}
+        if store is not None:
+            for sha, file in store.rows("SELECT sha256, file FROM ingests WHERE body = ?",
+                                        [name]):
+                loaded.setdefault(sha, set()).add(file)
+        seen_paths = {f for files in loaded.values() for f in files}
+        for path in body_sources(name, cfg):
+            sha = file_sha256(path)
+            if sha in loaded:
+                state = "loaded"
+            elif str(path) in seen_paths:
+                state = "changed"
+            else:
+                state = "new"
+            out.append(SourceFile(name, path, sha, state))
+    return out
+
+
+def _trends_stale(store: Store, body: str) -> bool:
+    """Trends are written after a run's last period, so they must be as new as every period."""
+    row = store.rows(
+        """SELECT (SELECT max(run_id) FROM periods WHERE body = ?),
+                  (SELECT min(run_id) FROM trends WHERE body = ?)""", [body, body])[0]
+    newest_period, oldest_trend = row
+    return newest_period is not None and (oldest_trend is None or oldest_trend < newest_period)
+
+
+def stale_periods(store: Store, options: BuildOptions, body: str | None = None) -> list[Stale]:
+    """The body × period pairs a rebuild would recompute (or remove), without writing."""
+    version = tool_version()
+    known = [r[0] for r in store.rows("SELECT body FROM bodies ORDER BY body")]
+    targets = [b for b in known if body is None or b == body]
+    out = []
+    for b in targets:
+        stored = dict(store.rows("SELECT period, fingerprint FROM periods WHERE body = ?", [b]))
+        periods = body_periods(store, b, options.period)
+        for period in periods:
+            vm = load_votes(store, b, period)
+            if vm.votes.size == 0:
+                continue
+            if period.name not in stored:
+                out.append(Stale(b, period.name, "new"))
+            elif stored[period.name] != fingerprint(vm, options, version):
+                out.append(Stale(b, period.name, "changed"))
+        names = {p.name for p in periods}
+        out += [Stale(b, p, "removed") for p in sorted(stored) if p not in names]
+        if not any(s.body == b for s in out) and _trends_stale(store, b):
+            out.append(Stale(b, None, "trends"))
+    return out
+
+
+def _ingest(store: Store, cfg: Config, pending: list[SourceFile]) -> list[SourceFile]:
+    from blocwatch.pipeline.ingest import ingest_files
+
+    done = []
+    for name in dict.fromkeys(s.body for s in pending):
+        files = [s for s in pending if s.body == name]
+        opts = body_ingest_options(name, cfg)
+        replace_all = bool(cfg.bodies.get(name, {}).get("replace", False))
+        # A changed file is the authority for its own ballots; a new one must not overwrite
+        # other files' votes unless the body says so.
+        for replace in (False, True):
+            group = [s for s in files if (replace_all or s.state == "changed") == replace]
+            if group:
+                ingest_files(store, [s.path for s in group], body=name, replace=replace, **opts)
+                done += group
+    return done
+
+
+def rebuild(store_path: str | Path, *, options: BuildOptions | None = None,
+            config: Config | None = None, body: str | None = None, full: bool = False,
+            out: str | Path | None = None,
+            write_outputs: Callable[[], list[Path]] | None = None,
+            progress: Callable[[str], None] | None = None) -> RebuildReport:
+    """Bring the store (and the outputs in ``out``) up to date; see the module docstring.
+
+    ``write_outputs`` is called after the store is closed (still under the lock) when
+    something was recomputed, with ``full``, or when the folder ``out`` does not exist yet.
+    """
+    opts = options or BuildOptions()
+    cfg = config or active_config()
+    if body is not None and cfg.bodies and body not in cfg.bodies:
+        raise UsageError(f"body {body!r}", "is not configured",
+                         f"use one of: {', '.join(cfg.bodies)} (the [bodies] tables)")
+    report = RebuildReport()
+    with store_lock(store_path, "rebuild"):
+        with Store(store_path) as store:
+            report.sources = scan_sources(store, cfg, body)
+            pending = [s for s in report.sources if s.state != "loaded"]
+            report.ingested = _ingest(store, cfg, pending) if pending else []
+            if not cfg.bodies and not store.scalar("SELECT count(*) FROM bodies"):
+                raise UsageError("rebuild", "no bodies are configured and the store is empty",
+                                 "add a [bodies.\"Name\"] table with sources to blocwatch.toml "
+                                 "(see 'blocwatch init')")
+            report.stale = stale_periods(store, opts, body)
+            if full or report.stale:
+                inputs = {"files": {str(s.path): s.sha256 for s in report.ingested},
+                          "stale": [[s.body, s.period, s.reason] for s in report.stale]}
+                report.build = build(store, body=body, options=opts, only_changed=not full,
+                                     progress=progress, command="rebuild", inputs=inputs)
+        missing_out = out is not None and not Path(out).exists()
+        if write_outputs is not None and (report.build is not None or missing_out):
+            report.outputs = write_outputs()
+    return report
