@@ -11,6 +11,7 @@ from .registry import FAMILIES, MetricValue, PeriodInput, compute_all, metric_na
 # FAMILY-IMPORTS-BEGIN
 # isort: off
 from blocwatch.metrics import modularity, community, crossgroup, separability  # noqa: F401
+from blocwatch.metrics import reliability  # noqa: F401
 # isort: on
 # FAMILY-IMPORTS-END
 

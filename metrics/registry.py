@@ -85,6 +85,9 @@ class Family:
     # Costly families (an optimisation or a fit per call) get fewer bootstrap replicates and
     # permutations: BuildOptions.expensive_replicates.
     expensive: bool = False
+    # Optional PeriodInput fields the family reads (e.g. "scores", None for yes/no bodies):
+    # compute_all leaves the family out of a period where one of them is None.
+    needs: tuple[str, ...] = ()
 
 
 FAMILIES: dict[str, Family] = {}
@@ -92,18 +95,21 @@ FAMILIES: dict[str, Family] = {}
 
 def register(name: str, metrics: tuple[str, ...], *,
              bounds: dict[str, tuple[float, float]] | None = None,
-             permutation_null: tuple[str, ...] = (), expensive: bool = False):
+             permutation_null: tuple[str, ...] = (), expensive: bool = False,
+             needs: tuple[str, ...] = ()):
     """Decorator: add a family to :data:`FAMILIES`.
 
     ``bounds`` gives the closed interval each metric must lie in (the invariance suite checks
     it); ``permutation_null`` names the metrics that get a label-permutation null;
-    ``expensive`` marks families whose every call fits or optimises something.
+    ``expensive`` marks families whose every call fits or optimises something; ``needs``
+    names optional :class:`PeriodInput` fields without which the family is left out.
     """
 
     def deco(func: Callable[[PeriodInput], dict[str, MetricValue]]):
         if name in FAMILIES:
             raise ValueError(f"metric family {name!r} is registered twice")
-        FAMILIES[name] = Family(name, metrics, func, bounds or {}, permutation_null, expensive)
+        FAMILIES[name] = Family(name, metrics, func, bounds or {}, permutation_null, expensive,
+                                needs)
         return func
 
     return deco
@@ -120,11 +126,13 @@ def compute_all(inp: PeriodInput, *, families: list[str] | None = None
 
     A family that raises ``ValueError`` on this input gets a missing value with the message as
     note for each of its metrics: a period where a metric cannot be computed is a note, not a
-    crash.
+    crash. A family whose ``needs`` field is None here is left out (no rows at all).
     """
     out: dict[str, MetricValue] = {}
     for fam in FAMILIES.values():
         if families is not None and fam.name not in families:
+            continue
+        if any(getattr(inp, f) is None for f in fam.needs):
             continue
         try:
             values = fam.func(inp)
