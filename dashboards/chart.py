@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 import re
 import unicodedata
 from dataclasses import dataclass, field
@@ -43,6 +44,16 @@ class Chart:
     note: str = ""
     empty: bool = False  # nothing to draw: pages show ``note`` ("not computed: ...") instead
     extra: dict[str, pd.DataFrame] = field(default_factory=dict)  # more CSVs, e.g. "edges"
+
+
+def plain(values) -> list:
+    """A plain list for a trace (NaN → None), so specs stay readable JSON, not typed arrays.
+
+    >>> plain(pd.Series([0.5, float("nan")]))
+    [0.5, None]
+    """
+    return [None if (isinstance(v, float) and math.isnan(v)) else v
+            for v in pd.Series(values, dtype=object).tolist()]
 
 
 def slug(text: str) -> str:

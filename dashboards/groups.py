@@ -7,7 +7,7 @@ import pandas as pd
 from plotly.subplots import make_subplots
 
 from blocwatch.dashboards import labels, palette
-from blocwatch.dashboards.chart import Chart
+from blocwatch.dashboards.chart import Chart, plain
 from blocwatch.dashboards.network import bridge_metric, member_scores
 from blocwatch.dashboards.safe import esc
 
@@ -52,8 +52,9 @@ def heatmap_chart(group_agreement: pd.DataFrame, body: str, periods: list[str]) 
         custom = np.dstack([np.full(z.shape, esc(period), dtype=object),
                             pairs.astype(object), np.broadcast_to(full[:, None], z.shape),
                             np.broadcast_to(full[None, :], z.shape)])
-        fig.add_heatmap(z=z, x=ticks, y=ticks, coloraxis="coloraxis", row=1, col=j,
-                        texttemplate="%{z:.2f}", customdata=custom, name=esc(period),
+        fig.add_heatmap(z=[plain(row) for row in z], x=ticks, y=ticks, coloraxis="coloraxis",
+                        row=1, col=j,
+                        texttemplate="%{z:.2f}", customdata=custom.tolist(), name=esc(period),
                         hovertemplate="%{customdata[0]}<br>%{customdata[2]} × %{customdata[3]}"
                                       "<br>agreement %{z:.3f}<br>pairs %{customdata[1]}"
                                       "<extra></extra>")

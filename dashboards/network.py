@@ -14,7 +14,7 @@ import pandas as pd
 import plotly.graph_objects as go
 
 from blocwatch.dashboards import labels, palette
-from blocwatch.dashboards.chart import Chart
+from blocwatch.dashboards.chart import Chart, plain
 from blocwatch.dashboards.safe import esc
 
 BRIDGE_METRICS = ("cross_tie_share", "participation", "delta_q", "cross_partners")
@@ -117,7 +117,7 @@ def _add_edges(fig: go.Figure, kept: pd.DataFrame, nodes: pd.DataFrame) -> None:
         xs = np.column_stack([x[a[sel]], x[b[sel]], np.full(sel.sum(), np.nan)]).ravel()
         ys = np.column_stack([y[a[sel]], y[b[sel]], np.full(sel.sum(), np.nan)]).ravel()
         band = f"agreement {lo + (hi - lo) * k / 4:.2f}–{lo + (hi - lo) * (k + 1) / 4:.2f}"
-        fig.add_scatter(x=xs, y=ys, mode="lines", hoverinfo="skip", name=band,
+        fig.add_scatter(x=plain(xs), y=plain(ys), mode="lines", hoverinfo="skip", name=band,
                         line=dict(color=palette.with_alpha(palette.INK, alpha), width=1),
                         showlegend=False, legendgroup="ties")
 
@@ -140,7 +140,8 @@ def _add_nodes(fig: go.Figure, nodes: pd.DataFrame, bridge: str | None,
     nodes = nodes.assign(_size=size, _hover=hover)
     for group, g in nodes.groupby(nodes["group_name"].fillna(""), sort=True):
         colour = colours.get(group, palette.NO_GROUP) if group else palette.NO_GROUP
-        fig.add_scatter(x=g["x"], y=g["y"], mode="markers", name=esc(group or "no group"),
-                        marker=dict(size=g["_size"], color=colour,
+        fig.add_scatter(x=plain(g["x"]), y=plain(g["y"]), mode="markers",
+                        name=esc(group or "no group"),
+                        marker=dict(size=plain(g["_size"]), color=colour,
                                     line=dict(color="white", width=1)),
-                        hovertext=g["_hover"], hovertemplate="%{hovertext}<extra></extra>")
+                        hovertext=plain(g["_hover"]), hovertemplate="%{hovertext}<extra></extra>")

@@ -14,7 +14,7 @@ import pandas as pd
 import plotly.graph_objects as go
 
 from blocwatch.dashboards import labels, palette
-from blocwatch.dashboards.chart import Chart
+from blocwatch.dashboards.chart import Chart, plain
 from blocwatch.dashboards.periods import is_dated, period_table
 from blocwatch.dashboards.safe import esc
 
@@ -59,7 +59,7 @@ def _customdata(g: pd.DataFrame, metric: str) -> list[list[str]]:
     for r in g.itertuples():
         interval = labels.fmt_interval(r.value, r.low, r.high, metric)
         interval = interval[interval.find(" "):] if "[" in interval else ""
-        note = f"<br>{esc(r.note)}" if r.note else ""
+        note = f"<br>{esc(r.note)}" if isinstance(r.note, str) and r.note else ""
         rows.append([esc(r.body), esc(r.period), esc(interval),
                      labels.fmt(r.n_members, "communities"),
                      labels.fmt(r.n_ballots, "communities"), note])
@@ -90,24 +90,24 @@ def trend_chart(metrics: pd.DataFrame, metric: str, *, trends: pd.DataFrame | No
         colour = palette.series_colour(i)
         group = f"body{i}"
         if g["low"].notna().any() and g["high"].notna().any():
-            fig.add_scatter(x=g["x"], y=g["high"], mode="lines", line=dict(width=0),
+            fig.add_scatter(x=plain(g["x"]), y=plain(g["high"]), mode="lines", line=dict(width=0),
                             name=esc(f"{body}: interval"), legendgroup=group,
                             showlegend=False, hoverinfo="skip")
-            fig.add_scatter(x=g["x"], y=g["low"], mode="lines", line=dict(width=0),
+            fig.add_scatter(x=plain(g["x"]), y=plain(g["low"]), mode="lines", line=dict(width=0),
                             fill="tonexty", fillcolor=palette.with_alpha(colour, 0.18),
                             name=esc(f"{body}: interval"), legendgroup=group, hoverinfo="skip")
         if g["null_mean"].notna().any():
-            fig.add_scatter(x=g["x"], y=g["null_mean"], mode="lines",
+            fig.add_scatter(x=plain(g["x"]), y=plain(g["null_mean"]), mode="lines",
                             line=dict(color=colour, width=1.2, dash="dot"),
                             name=esc(f"{body}: shuffled-group expectation"), legendgroup=group,
                             hoverinfo="skip")
-        fig.add_scatter(x=g["x"], y=g["value"], mode="lines+markers", name=esc(body),
+        fig.add_scatter(x=plain(g["x"]), y=plain(g["value"]), mode="lines+markers", name=esc(body),
                         legendgroup=group, line=dict(color=colour, width=2.4),
                         marker=dict(size=6, color=colour), connectgaps=False,
                         customdata=_customdata(g, metric), hovertemplate=_hover(info.label))
         cp = g[g["change_point"]]
         if len(cp):
-            fig.add_scatter(x=cp["x"], y=cp["value"], mode="markers",
+            fig.add_scatter(x=plain(cp["x"]), y=plain(cp["value"]), mode="markers",
                             name=esc(f"{body}: change point"), legendgroup=group,
                             marker=dict(symbol="diamond-open", size=15, color=colour,
                                         line=dict(width=2.4)),

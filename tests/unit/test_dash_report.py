@@ -1,0 +1,161 @@
+"""write_report: file set and names, offline pages, escaping, embeds, graceful emptiness."""
+
+import json
+import re
+
+import pandas as pd
+import pytest
+
+from blocwatch.dashboards.errors import ImageExportUnavailable, ReportInputError
+from blocwatch.dashboards.html import plotly_js
+from blocwatch.dashboards.report import body_slugs, write_report
+from blocwatch.dashboards.tables import ReportTables
+from tests.dash_synthetic import EVIL_GROUP, EVIL_MEMBER, HARBOUR, TARN, make_tables
+
+NO_BROWSER = "/nonexistent/chromium"
+
+
+@pytest.fixture(scope="module")
+def report(tmp_path_factory):
+    out = tmp_path_factory.mktemp("report")
+    tables = make_tables(evil=True)
+    paths = write_report(out, tables, images=False)
+    return out, tables, paths
+
+
+def test_file_names_are_stable_and_all_returned(report):
+    out, tables, paths = report
+    on_disk = {p for p in out.rglob("*") if p.is_file()}
+    assert set(paths) == on_disk
+    rel = {p.relative_to(out).as_posix() for p in paths}
+    h = "harbour-board-of-veldmark"
+    assert {"index.html", "comparison.html", f"briefing-{h}.html",
+            "briefing-assembly-of-the-tarn-isles.html"} <= rel
+    for metric in tables.metrics.metric.unique():
+        for ext in ("div.html", "json", "csv"):
+            assert f"embed/{h}/trend-{metric}.{ext}" in rel
+            assert f"embed/comparison/compare-{metric}.{ext}" in rel
+    # Networks default to first, change point and last period.
+    cp = json.loads(tables.trends.loc[tables.trends.body == HARBOUR, "change_points"].iloc[0])
+    for period in ["2001", *cp, "2010"]:
+        assert f"embed/{h}/network-{period}.edges.csv" in rel
+    assert f"embed/{h}/groups-heatmap.csv" in rel
+    assert not any(p.suffix in (".png", ".svg") for p in paths)  # images=False
+
+
+def test_pages_are_offline_and_carry_plotly_once(report):
+    out, _, _ = report
+    bundle_head = plotly_js()[:200]
+    for page in ("briefing-harbour-board-of-veldmark.html", "comparison.html"):
+        html = (out / page).read_text()
+        assert html.count(bundle_head) == 1
+        # Our own markup links nowhere off the page (the bundle's own strings, e.g. its
+        # unused logo link, are not loads; the browser test checks actual requests).
+        ours = html.replace(plotly_js(), "")
+        assert not re.search(r"""(src|href)\s*=\s*["']?(https?:)?//""", ours)
+        assert "default-src 'none'" in html and "connect-src 'none'" in html
+        assert len(re.findall(r"<script>", html)) == 2  # plotly.js + renderer, nothing else
+
+
+def test_user_strings_never_appear_raw(report):
+    out, _, paths = report
+    for p in paths:
+        if p.suffix in (".html", ".json"):
+            text = p.read_text()
+            assert EVIL_MEMBER not in text, p
+            assert EVIL_GROUP not in text, p
+    page = (out / "briefing-harbour-board-of-veldmark.html").read_text()
+    assert "&lt;img src=x onerror=alert(1)&gt;" in page  # shown as text in the tables
+
+
+def test_csv_holds_the_drawn_numbers_raw(report):
+    out, tables, _ = report
+    csv = pd.read_csv(out / "embed/harbour-board-of-veldmark/trend-group_modularity.csv")
+    rows = tables.metrics[(tables.metrics.body == HARBOUR)
+                          & (tables.metrics.metric == "group_modularity")]
+    assert list(csv["value"].round(12)) == list(rows["value"].round(12))
+    nodes = pd.read_csv(out / "embed/harbour-board-of-veldmark/network-2001.csv")
+    assert EVIL_MEMBER in set(nodes["name"])  # CSV is data: the raw name, not HTML
+
+
+def test_json_spec_is_plotly_and_parses(report):
+    out, _, _ = report
+    spec = json.loads((out / "embed/comparison/compare-group_modularity.json").read_text())
+    assert {"data", "layout", "config"} <= set(spec)
+    bodies = {tr["name"] for tr in spec["data"] if tr.get("mode") == "lines+markers"}
+    assert bodies == {HARBOUR, TARN}
+
+
+def test_snippet_needs_host_plotly_and_has_unique_ids(report):
+    out, _, _ = report
+    snip = (out / "embed/harbour-board-of-veldmark/trend-group_modularity.div.html").read_text()
+    assert "bw-harbour-board-of-veldmark-trend-group_modularity" in snip
+    assert "Plotly.newPlot" in snip and plotly_js()[:200] not in snip
+
+
+def test_comparison_notes_different_period_lengths(report):
+    out, _, _ = report
+    html = (out / "comparison.html").read_text()
+    assert "Period lengths differ between bodies" in html
+    assert "about 12 months" in html and "about 24 months" in html
+
+
+def test_reading_methods_and_provenance_sections(report):
+    out, tables, _ = report
+    html = (out / "briefing-harbour-board-of-veldmark.html").read_text()
+    assert "Reading these figures" in html and "not why" in html
+    assert "must not be used to single out" in html
+    assert "Newman, M. E. J. (2006)" in html and "Krackhardt" in html
+    assert tables.provenance["data_fingerprint"] in html and "run-7" in html
+
+
+def test_empty_tables_degrade_to_not_computed(tmp_path):
+    m = pd.DataFrame({"body": ["Tarn Harbour Trust"], "period": ["2001"], "metric": ["silhouette"],
+                      "value": [float("nan")], "note": ["only one group present"]})
+    paths = write_report(tmp_path, ReportTables(metrics=m), images=False)
+    html = (tmp_path / "briefing-tarn-harbour-trust.html").read_text()
+    assert "Not computed: only one group present." in html
+    assert "Not computed: no member or tie data" in html
+    assert "Not computed: no group-versus-group agreement" in html
+    assert "<script>" not in html  # nothing to draw: no plotly.js at all
+    assert (tmp_path / "comparison.html") in paths
+
+
+def test_nothing_at_all(tmp_path):
+    paths = write_report(tmp_path, ReportTables(), images=False)
+    assert {p.name for p in paths} == {"comparison.html", "index.html"}
+
+
+def test_colour_override_reaches_the_figures(tmp_path):
+    t = make_tables(two_bodies=False)
+    t.colours = {"Tideward": "#112233"}
+    write_report(tmp_path, t, images=False)
+    spec = json.loads((tmp_path / "embed/harbour-board-of-veldmark/network-2001.json").read_text())
+    tide = next(tr for tr in spec["data"] if tr.get("name") == "Tideward")
+    assert tide["marker"]["color"] == "#112233"
+
+
+def test_bad_input_is_reported(tmp_path):
+    with pytest.raises(ReportInputError, match="expected ReportTables"):
+        write_report(tmp_path, {"metrics": None})
+    with pytest.raises(ReportInputError, match="not in the results: Nowhere"):
+        write_report(tmp_path, make_tables(), bodies=["Nowhere"])
+
+
+def test_required_images_without_browser_fail_before_writing(tmp_path):
+    with pytest.raises(ImageExportUnavailable) as err:
+        write_report(tmp_path / "out", make_tables(), images=True, browser_path=NO_BROWSER)
+    assert NO_BROWSER in str(err.value) and "install Chromium" in str(err.value)
+    assert err.value.exit_code == 69
+    assert not (tmp_path / "out").exists()
+
+
+def test_optional_images_without_browser_are_skipped_with_a_note(tmp_path):
+    paths = write_report(tmp_path, make_tables(two_bodies=False), browser_path=NO_BROWSER)
+    assert not any(p.suffix in (".png", ".svg") for p in paths)
+    assert "Images not written" in (tmp_path / "index.html").read_text()
+
+
+def test_colliding_body_names_get_distinct_keys():
+    keys = body_slugs(["Board A", "board-a", "comparison"])
+    assert len(set(keys.values())) == 3 and keys["comparison"] != "comparison"
