@@ -169,7 +169,8 @@ _NAMES = ("best_modularity", "communities", "community_group_ari")
 
 @register("louvain", _NAMES, bounds={"best_modularity": (-0.5, 1.0),
                                      "communities": (1.0, float("inf")),
-                                     "community_group_ari": (-0.5, 1.0)})
+                                     "community_group_ari": (-0.5, 1.0)},
+          expensive=True)
 def _family(inp: PeriodInput) -> dict[str, MetricValue]:
     codes, k = normalise_labels(inp.labels)
     w = check_adjacency(inp.weights, n=codes.shape[0])

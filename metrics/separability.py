@@ -20,6 +20,8 @@ __all__ = ["separability", "silhouette"]
 
 MIN_GROUP = 2  # members a group needs to take part in cross-validation
 MAX_SPLITS = 5
+# Newton–Cholesky suits few features and many samples: same fit as lbfgs, ~20x faster here.
+SOLVER = "newton-cholesky"
 
 
 def _canonical_order(d: np.ndarray, codes: np.ndarray, x: np.ndarray) -> np.ndarray:
@@ -47,8 +49,10 @@ def _separability(d: np.ndarray, codes: np.ndarray, k: int, seed: int) -> tuple[
                          "fix: separability needs two groups to tell apart")
     keep = np.flatnonzero(np.isin(codes, keep_groups))
     x, lam = classical_mds(d, k, return_eigenvalues=True)
-    if lam[0] > 0:  # one common scale, so regularisation means the same in every period
-        x = x / np.sqrt(lam[0] / x.shape[0])
+    chance = f"chance level 1/{keep_groups.size} = {1 / keep_groups.size:.3g}"
+    if lam[0] <= 0:  # every member at one point: any classifier predicts one class
+        return 1.0 / keep_groups.size, f"all members coincide in the embedding; {chance}"
+    x = x / np.sqrt(lam[0] / x.shape[0])  # one scale, so C = 1 means the same every period
     keep = keep[_canonical_order(impute_distances(d)[np.ix_(keep, keep)], codes[keep],
                                  x[keep])]
     xs, ys = x[keep], codes[keep]
@@ -57,10 +61,10 @@ def _separability(d: np.ndarray, codes: np.ndarray, k: int, seed: int) -> tuple[
     pred = np.empty_like(ys)
     folds = StratifiedKFold(n_splits=splits, shuffle=True, random_state=seed)
     for train, test in folds.split(xs, ys):
-        pred[test] = LogisticRegression().fit(xs[train], ys[train]).predict(xs[test])
+        fit = LogisticRegression(solver=SOLVER).fit(xs[train], ys[train])
+        pred[test] = fit.predict(xs[test])
     value = float(balanced_accuracy_score(ys, pred))
-    notes = [f"{splits}-fold CV over {keep_groups.size} groups; chance level "
-             f"1/{keep_groups.size} = {1 / keep_groups.size:.3g}"]
+    notes = [f"{splits}-fold CV over {keep_groups.size} groups; {chance}"]
     dropped = codes.shape[0] - keep.shape[0]
     if dropped:
         notes.append(f"{dropped} member(s) in groups under {MIN_GROUP} members left out")
@@ -73,7 +77,7 @@ def separability(distances, labels, *, k: int = 2, seed: int = 0) -> float:
     r"""Cross-validated balanced accuracy of predicting group from a k-dim MDS embedding.
 
     Members are placed by :func:`~blocwatch.metrics.mds.classical_mds` (k dimensions,
-    rescaled so axis 1 has unit RMS); a logistic regression (scikit-learn defaults, C = 1)
+    rescaled so axis 1 has unit RMS); a logistic regression (L2, C = 1, Newton–Cholesky solver)
     predicts each member's group from out-of-fold fits; the score is the balanced accuracy of
     the pooled out-of-fold predictions,
 
@@ -162,7 +166,7 @@ _NAMES = ("separability", "silhouette")
 
 @register("separability", _NAMES,
           bounds={"separability": (0.0, 1.0), "silhouette": (-1.0, 1.0)},
-          permutation_null=("separability",))
+          permutation_null=("separability",), expensive=True)
 def _family(inp: PeriodInput) -> dict[str, MetricValue]:
     codes, k = normalise_labels(inp.labels)
     d = agreement_distances(inp.agreement)

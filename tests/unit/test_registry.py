@@ -16,6 +16,7 @@ this file. Every family must:
 - raise ``ValueError`` from ``blocwatch.metrics.validation`` for NaN labels.
 """
 
+import dataclasses
 import math
 
 import numpy as np
@@ -43,11 +44,13 @@ SEEDS = range(5)
 
 def make_input(seed: int, *, n: int | None = None, k: int | None = None,
                gaps: bool = False) -> PeriodInput:
-    """A random period: members on a line by group, noisy yes/no/abstain votes, absences."""
+    """A random period: members on a line by group, noisy yes/no/abstain votes, absences,
+    and 1–5 scores on as many scored ballots (every optional field filled, so families that
+    declare ``needs`` run too). Always more ballots than members."""
     rng = np.random.default_rng(seed)
     n = int(rng.integers(8, 26)) if n is None else n
     k = int(rng.integers(2, 5)) if k is None else k
-    b = int(rng.integers(12, 40))
+    b = n + int(rng.integers(4, 30))
     labels = rng.permutation(np.arange(n) % k)
     pos = labels * rng.uniform(0.0, 2.0) + rng.normal(size=n)
     cut = rng.normal(size=b) * 2
@@ -68,26 +71,36 @@ def make_input(seed: int, *, n: int | None = None, k: int | None = None,
     weights = np.where(has, agreement, 0.0)
     threshold = np.quantile(agreement[has], 0.6) if has.any() else 1.0
     edges = has & (agreement >= threshold)
+    scores = np.clip(np.round(3 + pos[:, None] + rng.normal(size=(n, b))), 1, 5)
+    scores[votes == MISSING] = np.nan
+    level = ("nominal", "ordinal", "interval")[seed % 3]
     return PeriodInput(agreement=agreement, shared=shared.astype(np.int64), labels=labels,
-                       weights=weights, edges=edges, votes=votes, seed=seed)
+                       weights=weights, edges=edges, votes=votes, seed=seed, scores=scores,
+                       score_level=level)
+
+
+# Member × member fields; every other array field of PeriodInput has one row per member.
+SQUARE = {"agreement", "shared", "weights", "edges"}
 
 
 def permute_members(inp: PeriodInput, perm: np.ndarray) -> PeriodInput:
-    sq = np.ix_(perm, perm)
-    return PeriodInput(agreement=inp.agreement[sq], shared=inp.shared[sq],
-                       labels=inp.labels[perm], weights=inp.weights[sq], edges=inp.edges[sq],
-                       votes=None if inp.votes is None else inp.votes[perm], seed=inp.seed)
+    changes = {}
+    for f in dataclasses.fields(inp):
+        x = getattr(inp, f.name)
+        if isinstance(x, np.ndarray):
+            changes[f.name] = x[np.ix_(perm, perm)] if f.name in SQUARE else x[perm]
+    return dataclasses.replace(inp, **changes)
 
 
 def with_labels(inp: PeriodInput, labels) -> PeriodInput:
-    return PeriodInput(inp.agreement, inp.shared, np.asarray(labels), inp.weights, inp.edges,
-                       inp.votes, inp.seed)
+    return dataclasses.replace(inp, labels=np.asarray(labels))
 
 
 def empty_input() -> PeriodInput:
     z = np.zeros((0, 0))
     return PeriodInput(agreement=z, shared=z.astype(np.int64), labels=np.zeros(0, np.int64),
-                       weights=z, edges=z.astype(bool), votes=np.zeros((0, 5), np.int8))
+                       weights=z, edges=z.astype(bool), votes=np.zeros((0, 5), np.int8),
+                       scores=np.zeros((0, 5)), score_level="interval")
 
 
 def same_value(a: MetricValue, b: MetricValue) -> bool:
@@ -121,6 +134,10 @@ def test_declarations_are_consistent():
 def test_compute_all_gives_every_metric():
     out = compute_all(make_input(0))
     assert list(out) == metric_names()
+    # a family is left out, not failed, where an optional field it needs is absent
+    bare = compute_all(dataclasses.replace(make_input(0), scores=None, score_level=None))
+    kept = [f for f in FAMILIES.values() if "scores" not in getattr(f, "needs", ())]
+    assert list(bare) == [m for fam in kept for m in fam.metrics]
     assert all(isinstance(v, MetricValue) for v in out.values())
 
 
