@@ -109,12 +109,10 @@ def modularity_graph(G: nx.Graph, communities, *, weight: str | None = "weight",
                          "G.to_undirected() or use networkx.community.modularity")
     nodes = list(G)
     index = {u: i for i, u in enumerate(nodes)}
-    codes = np.full(len(nodes), -1, dtype=np.int64)
-    items = communities.items() if hasattr(communities, "items") else None
-    if items is not None:
+    if hasattr(communities, "items"):  # a mapping node -> label
         codes, k = normalise_labels([communities.get(u) for u in nodes])
     else:
-        k = 0
+        codes, k = np.full(len(nodes), -1, dtype=np.int64), 0
         for k, block in enumerate(communities):
             for u in block:
                 if u not in index or codes[index[u]] != -1:
