@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import contextlib
 import hashlib
+import re
 from collections.abc import Iterator, Sequence
 from pathlib import Path
 from typing import Any
@@ -299,6 +300,68 @@ class Store:
         except duckdb.Error as exc:
             raise BadInputError(f"file {path}", f"cannot be read as Parquet ({_first_line(exc)})",
                                 "check that the file is a Parquet file") from exc
+
+
+    # -- staging for ingest: temporary tables named _bw_*, dropped after each load ---------
+    def stage(self, name: str, sql: str, params: Sequence[Any] | dict | None = None) -> int:
+        """Create the temporary table ``name`` as the result of ``sql``; return its row count.
+
+        DuckDB reads the input file itself (``read_csv``, ``read_parquet``, ``read_json``), so a
+        large file streams into the table without passing through Python. A DuckDB error (a
+        malformed file) becomes :class:`ReadError` carrying DuckDB's message.
+        """
+        check_stage(name)
+        try:
+            self.con.execute(f"CREATE OR REPLACE TEMP TABLE {name} AS {sql}", params or [])
+        except duckdb.Error as exc:
+            raise ReadError(exc) from exc
+        return int(self.con.execute(f"SELECT count(*) FROM {name}").fetchone()[0])
+
+    def stage_frame(self, name: str, frame: pd.DataFrame) -> int:
+        """Copy ``frame`` into the temporary table ``name``; return its row count."""
+        check_stage(name)
+        self.con.register("_bw_frame", frame)
+        try:
+            self.con.execute(f"CREATE OR REPLACE TEMP TABLE {name} AS SELECT * FROM _bw_frame")
+        finally:
+            self.con.unregister("_bw_frame")
+        return len(frame)
+
+    def probe(self, sql: str, params: Sequence[Any] | dict | None = None) -> list[tuple]:
+        """Rows of a query that reads an input file; DuckDB errors become :class:`ReadError`."""
+        try:
+            return self.con.execute(sql, params or []).fetchall()
+        except duckdb.Error as exc:
+            raise ReadError(exc) from exc
+
+    def drop_staged(self) -> None:
+        """Drop every temporary ``_bw_*`` table of this connection."""
+        names = self.con.execute(
+            "SELECT table_name FROM duckdb_tables() WHERE temporary "
+            "AND starts_with(table_name, '_bw_')").fetchall()
+        for (name,) in names:
+            if _STAGE_NAME.match(name):
+                self.con.execute(f"DROP TABLE IF EXISTS {name}")
+
+
+_STAGE_NAME = re.compile(r"^_bw_[a-z0-9_]{1,40}$")
+
+
+def check_stage(name: str) -> str:
+    """Return ``name`` if it is a valid staging table name (``_bw_`` + lower-case word)."""
+    if not _STAGE_NAME.match(name):
+        raise StoreError(f"staging table {name!r}", "is not a _bw_ name",
+                         "use _bw_ followed by lower-case letters, digits and _")
+    return name
+
+
+class ReadError(BadInputError):
+    """DuckDB could not read an input file; ``detail`` holds DuckDB's full message."""
+
+    def __init__(self, exc: BaseException):
+        self.detail = str(exc)
+        super().__init__("input file", f"cannot be read ({_first_line(exc)})",
+                         "check the file's format")
 
 
 def _first_line(exc: BaseException) -> str:

@@ -1,0 +1,168 @@
+"""Checks across rows, files and the store, in SQL over the staged tables.
+
+Each staged votes file ``k`` is reduced to ``_bw_v{k}``: one row per body, ballot and member with
+the canonical choice (a join against the code table), the number of different choices given and
+the first row. That one aggregate finds duplicates and is also what gets inserted, so a big file
+is grouped once. Ballots are reduced to ``_bw_b{k}`` (one row per ballot and distinct date/title).
+"""
+
+from __future__ import annotations
+
+from blocwatch.pipeline.safety import show
+from blocwatch.pipeline.store import Store
+from blocwatch.pipeline.validate import EXAMPLES, Problem, Problems, add_row_problem
+
+
+def reduce_votes(store: Store, staged, k: int, problems: Problems) -> str:
+    """``_bw_v{k}``: the file's votes, one row per key; contradicting duplicates are problems."""
+    table = f"_bw_v{k}"
+    store.stage(table, f"""
+        SELECT t.body, t.ballot_id, t.member_id, arg_min(t.raw, t.rowid) AS raw,
+               min(c.choice) AS choice, count(DISTINCT c.choice) AS n_choices,
+               min(t.rowid) AS rid, CAST({k} AS INTEGER) AS k
+        FROM {staged.table} t JOIN _bw_codes c ON c.raw = coalesce(t.raw, '')
+        WHERE t.body IS NOT NULL AND t.ballot_id IS NOT NULL AND t.member_id IS NOT NULL
+        GROUP BY t.body, t.ballot_id, t.member_id""")
+    n, = store.rows(f"SELECT count(*) FROM {table} WHERE n_choices > 1")[0]
+    if n:
+        examples = store.rows(f"SELECT body, ballot_id, member_id FROM {table} "
+                              f"WHERE n_choices > 1 ORDER BY rid LIMIT {EXAMPLES}")
+        for body, ballot, member in examples:
+            hits = store.rows(f"SELECT rowid, raw FROM {staged.table} WHERE body = ? AND "
+                              "ballot_id = ? AND member_id = ? ORDER BY rowid LIMIT 2",
+                              [body, ballot, member])
+            (r1, v1), (r2, v2) = hits[0], hits[-1]
+            first = staged.place(r1, "raw")
+            at = f"line {first[0]}" if first[0] else first[1]
+            add_row_problem(problems, staged, "duplicate", r2, "raw", v2,
+                            f"member {show(member)} votes {show(v2)} on ballot {show(ballot)} "
+                            f"here and {show(v1)} at {at}",
+                            "keep one row per member and ballot", count=1)
+        if n > EXAMPLES:
+            problems.add(Problem("duplicate", staged.name, f"{n - EXAMPLES} more member and "
+                                 "ballot pairs are given twice with different votes",
+                                 "keep one row per member and ballot", count=n - EXAMPLES))
+    return table
+
+
+def reduce_ballots(store: Store, staged, k: int, problems: Problems) -> str:
+    """``_bw_b{k}``: distinct ballots of a staged votes or ballots file; two dates are a problem."""
+    table = f"_bw_b{k}"
+    store.stage(table, f"""
+        SELECT body, ballot_id, held_on, TRY_CAST(held_on AS DATE) AS day, title, item,
+               min(rowid) AS rid, count(*) AS n, CAST({k} AS INTEGER) AS k
+        FROM {staged.table} WHERE body IS NOT NULL AND ballot_id IS NOT NULL
+        GROUP BY body, ballot_id, held_on, title, item""")
+    for col, word in (("held_on", "dates"), ("title", "titles"), ("item", "agenda items")):
+        rows = store.rows(f"""
+            SELECT ballot_id, list({col} ORDER BY rid) FILTER (WHERE {col} IS NOT NULL),
+                   list(rid ORDER BY rid) FILTER (WHERE {col} IS NOT NULL) FROM {table}
+            GROUP BY body, ballot_id HAVING count(DISTINCT {col}) > 1
+            ORDER BY min(rid) LIMIT {EXAMPLES}""")
+        for ballot, values, rids in rows:
+            later = next((i for i, v in enumerate(values) if v != values[0]), None)
+            if later is None:
+                continue
+            first = staged.place(rids[0], col)
+            at = f"line {first[0]}" if first[0] else first[1]
+            add_row_problem(problems, staged, "ballot", rids[later], col, values[later],
+                            f"ballot {show(ballot)} has two {word}: {show(values[later])} here "
+                            f"and {show(values[0])} at {at}", f"give every row of a ballot the "
+                            f"same {word[:-1]}, or give different ballots different ids")
+    return table
+
+
+def combine_votes(store: Store, tables: list[str], names: list[str], *, replace: bool,
+                  problems: Problems) -> str:
+    """``_bw_votes``: all files' votes; a later file wins with ``replace``, else a clash is a
+    problem."""
+    if len(tables) == 1:
+        return tables[0]
+    union = " UNION ALL ".join(f"SELECT * FROM {t}" for t in tables)
+    store.stage("_bw_votes", f"""
+        SELECT body, ballot_id, member_id, arg_max(raw, k) AS raw, arg_max(choice, k) AS choice,
+               max(n_choices) AS n_choices, arg_max(rid, k) AS rid, max(k) AS k,
+               count(DISTINCT choice) AS n_files_choices, min(k) AS k_first
+        FROM ({union}) GROUP BY body, ballot_id, member_id""")
+    if not replace:
+        rows = store.rows(f"""SELECT ballot_id, member_id, k_first, k, choice FROM _bw_votes
+                              WHERE n_files_choices > 1 LIMIT {EXAMPLES}""")
+        for ballot, member, k1, k2, choice in rows:
+            problems.add(Problem("conflict", names[k2], f"gives member {show(member)} the vote "
+                                 f"{choice} on ballot {show(ballot)}, which {names[k1]} gives "
+                                 "differently", "load the corrected file alone with --replace, "
+                                 "or fix one of the two", value=member))
+    return "_bw_votes"
+
+
+def store_conflicts(store: Store, votes: str, staged_by_k: dict, problems: Problems) -> None:
+    """Votes whose stored choice differs from the new one (only when not replacing)."""
+    n, = store.rows(f"""SELECT count(*) FROM {votes} n JOIN votes v ON v.body = n.body
+                        AND v.ballot_id = n.ballot_id AND v.member_id = n.member_id
+                        WHERE v.choice <> n.choice""")[0]
+    if not n:
+        return
+    rows = store.rows(f"""SELECT n.k, n.rid, n.ballot_id, n.member_id, v.choice, n.choice, n.raw
+                          FROM {votes} n JOIN votes v ON v.body = n.body
+                          AND v.ballot_id = n.ballot_id AND v.member_id = n.member_id
+                          WHERE v.choice <> n.choice ORDER BY n.k, n.rid LIMIT {EXAMPLES}""")
+    for i, (k, rid, ballot, member, old, new, raw) in enumerate(rows):
+        add_row_problem(problems, staged_by_k[k], "conflict", rid, "raw", raw,
+                        f"member {show(member)} votes {new} on ballot {show(ballot)} here, but "
+                        f"the store holds {old}", "pass --replace to overwrite the stored votes of "
+                        "the ballots in this file, or correct the file",
+                        count=(n - len(rows) + 1) if i == len(rows) - 1 else 1)
+
+
+def resolve_ballots(store: Store, vote_ballots: list[str], file_ballots: str | None,
+                    staged_by_k: dict, *, replace: bool, problems: Problems) -> str:
+    """``_bw_bal``: one row per new ballot with its date from the votes file, the ballots file
+    or the store; a ballot with two dates or none is a problem."""
+    parts = [f"SELECT *, 0 AS src FROM {t}" for t in vote_ballots]
+    if file_ballots:
+        parts.append(f"SELECT *, 1 AS src FROM {file_ballots}")
+    if not parts:
+        store.stage("_bw_bal", "SELECT CAST(NULL AS VARCHAR) AS body, CAST(NULL AS VARCHAR) AS "
+                    "ballot_id, CAST(NULL AS DATE) AS held_on, CAST(NULL AS VARCHAR) AS title, "
+                    "CAST(NULL AS VARCHAR) AS item WHERE false")
+        return "_bw_bal"
+    store.stage("_bw_ball", " UNION ALL ".join(parts))
+    # A date given in the votes files and a different one in the ballots file.
+    rows = store.rows(f"""
+        SELECT a.ballot_id, a.held_on, a.k, a.rid, b.held_on, b.k, b.rid
+        FROM _bw_ball a JOIN _bw_ball b ON a.body = b.body AND a.ballot_id = b.ballot_id
+        WHERE a.src = 0 AND b.src = 1 AND a.day IS NOT NULL AND b.day IS NOT NULL
+              AND a.day <> b.day LIMIT {EXAMPLES}""")
+    for ballot, d1, k1, r1, d2, k2, r2 in rows:
+        add_row_problem(problems, staged_by_k[k2], "ballot", r2, "held_on", d2,
+                        f"ballot {show(ballot)} is dated {show(d2)} here but {show(d1)} in "
+                        f"{staged_by_k[k1].name}", "make the two files agree on the date")
+    store.stage("_bw_bal", """
+        WITH g AS (SELECT body, ballot_id, min(day) AS day, arg_min(title, src * 1e12 + rid)
+                   FILTER (WHERE title IS NOT NULL) AS title, arg_min(item, src * 1e12 + rid)
+                   FILTER (WHERE item IS NOT NULL) AS item, arg_min(k, src * 1e12 + rid) AS k,
+                   arg_min(rid, src * 1e12 + rid) AS rid,
+                   bool_or(held_on IS NOT NULL AND day IS NULL) AS bad_date
+                   FROM _bw_ball GROUP BY body, ballot_id)
+        SELECT g.body, g.ballot_id, coalesce(g.day, s.held_on) AS held_on,
+               coalesce(g.title, s.title) AS title, coalesce(g.item, s.item) AS item,
+               g.k, g.rid, s.held_on AS stored_on, g.bad_date
+        FROM g LEFT JOIN ballots s ON s.body = g.body AND s.ballot_id = g.ballot_id""")
+    n, = store.rows("SELECT count(*) FROM _bw_bal WHERE held_on IS NULL AND NOT bad_date")[0]
+    if n:
+        for k, rid, ballot in store.rows(f"SELECT k, rid, ballot_id FROM _bw_bal WHERE held_on "
+                                         f"IS NULL AND NOT bad_date ORDER BY k, rid "
+                                         f"LIMIT {EXAMPLES}"):
+            add_row_problem(problems, staged_by_k[k], "date", rid, "ballot_id", ballot,
+                            f"ballot {show(ballot)} has no date", "add a date column (or a date "
+                            "row under the header of a wide sheet), or pass --ballots FILE with "
+                            "ballot_id,held_on", count=max(1, n - EXAMPLES + 1) if n > EXAMPLES
+                            else 1)
+    if not replace:
+        for k, rid, ballot, new, old in store.rows(
+                f"SELECT k, rid, ballot_id, held_on, stored_on FROM _bw_bal WHERE stored_on IS "
+                f"NOT NULL AND held_on <> stored_on ORDER BY k, rid LIMIT {EXAMPLES}"):
+            add_row_problem(problems, staged_by_k[k], "conflict", rid, "held_on", str(new),
+                            f"ballot {show(ballot)} is dated {new} here but {old} in the store",
+                            "pass --replace to overwrite the stored ballot, or fix the date")
+    return "_bw_bal"

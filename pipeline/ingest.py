@@ -1,0 +1,418 @@
+"""Load ballot files into the store: stage, check everything, then write it all or nothing.
+
+One call of :func:`ingest_files` is one transaction. Files are staged into temporary tables by
+:mod:`~blocwatch.pipeline.readers`, every check of :mod:`~blocwatch.pipeline.validate`,
+:mod:`~blocwatch.pipeline.conflicts` and :mod:`~blocwatch.pipeline.roster` runs, and only if
+none found a problem does :mod:`~blocwatch.pipeline.writer` insert. On any error the
+transaction rolls back, so the store is exactly as before.
+
+Decisions worth knowing:
+
+- **Body.** ``body=`` names the body for every row; without it each file needs a ``body``
+  column. There is no guessing from file names.
+- **Absent rows are stored**, with ``choice = 'absent'`` and the original code in ``raw``
+  (blank cells too, ``raw`` NULL). Readers treat a missing row the same way.
+- **Same file twice** (same sha256 for the same body) is skipped and reported ``unchanged``.
+- **Conflicts.** A vote, ballot date or membership that differs from the stored one is an
+  error unless ``replace=True``; then each ballot in the load replaces its stored version
+  whole (see :mod:`~blocwatch.pipeline.writer`). Identical overlapping rows are fine.
+- **Groups** come from the roster (``members=``), else from a ``group`` column of the votes
+  file, else from memberships already stored. Once a body has any, every member in the votes
+  must have one (roster row) and cast votes must fall inside a membership spell.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import pandas as pd
+
+from blocwatch.pipeline import codes as vote_codes
+from blocwatch.pipeline import conflicts, roster, sniff, writer
+from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.readers import FIELDS, KINDS, Staged, parse_columns, stage_file
+from blocwatch.pipeline.safety import check_name, show
+from blocwatch.pipeline.store import Store
+from blocwatch.pipeline.validate import (
+    EXAMPLES,
+    Problem,
+    Problems,
+    add_row_problem,
+    check_bodies,
+    check_dates,
+    check_values,
+)
+
+LAYOUTS = ("long", "wide")
+
+
+@dataclass
+class FileResult:
+    """What happened to one input file."""
+
+    path: str
+    sha256: str
+    rows: int
+    status: str  # 'loaded' | 'unchanged' | 'checked' | 'failed'
+    kind: str = "votes"  # votes | roster | ballots
+    bodies: tuple[str, ...] = ()
+    ballots: int = 0
+    members: int = 0
+
+    def summary(self) -> str:
+        short = self.sha256[:12]
+        if self.status == "unchanged":
+            return (f"unchanged {self.path}: already loaded (sha256 {short}…), nothing written")
+        body = ", ".join(self.bodies)
+        what = {"votes": f"{self.rows} rows, {self.ballots} ballots, {self.members} members",
+                "roster": f"{self.rows} roster rows, {self.members} members",
+                "ballots": f"{self.rows} rows, {self.ballots} ballots"}[self.kind]
+        return f"{self.status} {self.path}: {what}" + (f" (body {body})" if body else "") + \
+            f", sha256 {short}…"
+
+
+@dataclass
+class IngestReport:
+    """The result of one :func:`ingest_files` call."""
+
+    files: list[FileResult]
+    problems: Problems = field(default_factory=Problems)
+    check_only: bool = False
+    votes_written: int = 0
+    notes: list[str] = field(default_factory=list)
+
+    @property
+    def rows(self) -> int:
+        return sum(f.rows for f in self.files if f.status == "loaded")
+
+    @property
+    def loaded(self) -> int:
+        return sum(f.status == "loaded" for f in self.files)
+
+    @property
+    def unchanged(self) -> int:
+        return sum(f.status == "unchanged" for f in self.files)
+
+    def lines(self) -> list[str]:
+        """One summary line per file (then the check report in check mode)."""
+        out = [f.summary() for f in self.files if not (self.check_only and f.status == "checked"
+                                                      and self.problems)]
+        if self.check_only:
+            out += self.problems.report()
+        return out + self.notes
+
+
+def ingest_files(store: Store, paths, *, body: str | None, members=None, layout: str = "long",
+                 codes=None, replace: bool = False, columns: dict[str, str] | None = None,
+                 ballots=None, check_only: bool = False) -> IngestReport:
+    """Load vote files (plus an optional roster and ballots file) into ``store`` atomically.
+
+    Parameters
+    ----------
+    store : Store
+    paths : iterable of path
+        Vote files: ``.csv``/``.tsv``, ``.parquet``, ``.jsonl`` (long layout) or ``.csv``,
+        ``.xlsx`` (wide layout; ``.xlsx`` also long).
+    body : str or None
+        Body of every row; ``None`` requires a ``body`` column.
+    members : path, optional
+        Roster: ``member_id, name, group[, valid_from, valid_to]``.
+    layout : {'long', 'wide'}
+    codes : path or dict, optional
+        Extra vote codes, ``raw,choice`` CSV (or ``{raw: choice}``).
+    replace : bool
+        Overwrite stored ballots, votes and memberships that the load contradicts.
+    columns : dict, optional
+        ``{field: header}`` for columns with other names (fields: ``readers.FIELDS``).
+    ballots : path, optional
+        Ballot dates and titles: ``ballot_id, held_on[, title, item]``.
+    check_only : bool
+        Check everything, write nothing; problems are returned in the report, not raised.
+
+    Returns
+    -------
+    IngestReport
+
+    Raises
+    ------
+    BadInputError
+        On the first problem of a load (nothing is written); exit code 65 in the CLI.
+    UsageError
+        For a bad option or a missing file.
+    """
+    if layout not in LAYOUTS:
+        raise UsageError(f"layout {layout!r}", "is not long or wide", "pass --layout long|wide")
+    if body is not None:
+        check_name(body)
+    overrides = parse_columns(columns)
+    mapping = _mapping(codes)
+    inputs = [(Path(p), "votes") for p in paths]
+    if members:
+        inputs.append((Path(members), "roster"))
+    if ballots:
+        inputs.append((Path(ballots), "ballots"))
+    if not inputs:
+        raise UsageError("ingest", "was given no files", "name one or more vote files")
+    for path, kind in inputs:
+        if not path.is_file():
+            raise UsageError(f"{kind} file {path}", "does not exist or is not a file",
+                             "check the path")
+    load = _Load(store, body=body, layout=layout, mapping=mapping, replace=replace,
+                 overrides=overrides, check_only=check_only)
+    with store.transaction():
+        report = load.run(inputs)
+        if report.problems and not check_only:
+            raise report.problems.first_error()
+        store.drop_staged()
+    return report
+
+
+def _mapping(codes) -> dict[str, str] | None:
+    if codes is None:
+        return None
+    if isinstance(codes, dict):
+        bad = {k: v for k, v in codes.items() if vote_codes.normalise(v) not in
+               vote_codes.CHOICES}
+        if bad:
+            raise UsageError(f"codes {bad}", "map to something other than a choice",
+                             f"use one of {', '.join(vote_codes.CHOICES)}")
+        return {vote_codes.normalise(k): vote_codes.normalise(v) for k, v in codes.items()}
+    return vote_codes.load_mapping(codes)
+
+
+class _Load:
+    def __init__(self, store: Store, *, body, layout, mapping, replace, overrides, check_only):
+        self.store, self.body, self.layout, self.mapping = store, body, layout, mapping
+        self.replace, self.overrides, self.check_only = replace, overrides, check_only
+        self.problems = Problems()
+        self.results: list[FileResult] = []
+        self.staged: dict[int, Staged] = {}
+        self.notes: list[str] = []
+
+    # -- stage every file ---------------------------------------------------------------------
+    def run(self, inputs) -> IngestReport:
+        seen: set[str] = set()
+        for path, kind in inputs:
+            info = sniff.scan(path)
+            if info.sha256 in seen or self._known(info.sha256):
+                self.results.append(FileResult(str(path), info.sha256, 0, "unchanged", kind))
+                continue
+            seen.add(info.sha256)
+            k = len(self.results)
+            staged = stage_file(self.store, path, kind=kind, table=f"_bw_s{k}", body=self.body,
+                                overrides=self.overrides, problems=self.problems,
+                                layout=self.layout if kind == "votes" else "long",
+                                scan_info=info)
+            self.results.append(FileResult(str(path), info.sha256, staged.rows if staged else 0,
+                                           "checked" if self.check_only else "loaded", kind))
+            if staged is not None:
+                if self.body is None and "body" not in staged.headers:
+                    self.problems.add(Problem("header", staged.name, "has no body column and no "
+                                              "body was named", "pass --body NAME", line=1))
+                    continue
+                self.staged[k] = staged
+        report = IngestReport(self.results, self.problems, self.check_only, notes=self.notes)
+        if self.staged:
+            self._check_and_write(report)
+        return report
+
+    def _known(self, sha: str) -> bool:
+        if self.body is not None:
+            return bool(self.store.scalar("SELECT count(*) FROM ingests WHERE sha256 = ? AND "
+                                          "body = ?", [sha, self.body]))
+        return bool(self.store.scalar("SELECT count(*) FROM ingests WHERE sha256 = ?", [sha]))
+
+    def _of(self, kind: str) -> dict[int, Staged]:
+        return {k: s for k, s in self.staged.items() if s.kind == kind}
+
+    # -- check --------------------------------------------------------------------------------
+    def _check_and_write(self, report: IngestReport) -> None:
+        store, problems = self.store, self.problems
+        for k, s in self.staged.items():
+            req, _, _ = KINDS[s.kind]
+            check_values(store, s, required=tuple(FIELDS[o][0] for o in req) + ("body",),
+                         problems=problems)
+            bodies = check_bodies(store, s, problems)
+            self.results[k].bodies = tuple(bodies)
+            for col in ("held_on", "valid_from", "valid_to"):
+                if col in s.headers:
+                    check_dates(store, s, col, problems, future_ok=s.kind == "roster")
+        votes = self._of("votes")
+        self._codes(votes)
+        vote_tables = [conflicts.reduce_votes(store, s, k, problems) for k, s in votes.items()]
+        ballot_tables = [conflicts.reduce_ballots(store, s, k, problems) for k, s in
+                         self._of("votes").items()]
+        file_ballots = [conflicts.reduce_ballots(store, s, k, problems) for k, s in
+                        self._of("ballots").items()]
+        combined = conflicts.combine_votes(store, vote_tables, self._names(),
+                                           replace=self.replace, problems=problems) \
+            if vote_tables else None
+        bal = conflicts.resolve_ballots(store, ballot_tables, file_ballots[0] if file_ballots
+                                        else None, self.staged, replace=self.replace,
+                                        problems=problems)
+        spells, spell_members = self._memberships(votes, combined, bal)
+        if combined and not self.replace:
+            conflicts.store_conflicts(store, combined, self.staged, problems)
+        self._counts(votes, bal)
+        if problems:
+            return
+        if self.check_only:
+            return
+        members = self._members(votes)
+        bodies = sorted({b for r in self.results for b in r.bodies} | set(
+            spells["body"].unique() if not spells.empty else []))
+        report.votes_written = writer.write_load(
+            store, votes=combined, ballots=bal, members=members, spells=spells,
+            spell_members=spell_members, ingests=self._ingest_rows(), bodies=bodies,
+            replace=self.replace)
+
+    def _names(self) -> list[str]:
+        return [r.path for r in self.results]
+
+    def _codes(self, votes: dict[int, Staged]) -> None:
+        table: dict[object, str] = {"": "absent"}
+        for s in votes.values():
+            rows = self.store.rows(f"SELECT raw, count(*), min(rowid) FROM {s.table} GROUP BY raw "
+                                   "ORDER BY min(rowid) LIMIT 100001")
+            known, unknown = vote_codes.resolve([r[0] for r in rows], self.mapping)
+            table.update({k: v for k, v in known.items() if k is not None})
+            info = {r[0]: r for r in rows}
+            for raw in unknown:
+                _, n, rid = info[raw]
+                add_row_problem(self.problems, s, "code", rid, "raw", raw,
+                                f"{show(raw)} is not a known vote code",
+                                "add it to a mapping file (raw,choice) and pass --codes FILE",
+                                count=n)
+        self.store.stage_frame("_bw_codes", pd.DataFrame(
+            {"raw": pd.Series(list(table), dtype=object).astype(str),
+             "choice": pd.Series(list(table.values()), dtype=object)}))
+
+    def _memberships(self, votes: dict[int, Staged], combined: str | None, bal: str):
+        store, problems = self.store, self.problems
+        rosters = self._of("roster")
+        bodies = sorted({b for k in self.staged for b in self.results[k].bodies})
+        stored = roster.stored_spells(store, bodies)
+        new_roster = pd.concat([roster.roster_spells(store, s, problems) for s in
+                                rosters.values()]) if rosters else None
+        grouped = {k: s for k, s in votes.items() if "group_name" in s.headers}
+        obs = self._observations(grouped, bal) if grouped else None
+        source = next(iter(rosters.values())).name if rosters else \
+            (next(iter(grouped.values())).name if grouped else "")
+        if new_roster is not None:
+            if obs:
+                self._roster_agrees(obs, new_roster, grouped)
+            merged = roster.merge(stored, new_roster, replace="all" if self.replace else None,
+                                  source=source, problems=problems)
+            affected = new_roster[["body", "member_id"]].drop_duplicates()
+        elif obs:
+            derived = roster.derived_spells(store, obs)
+            merged = roster.merge(stored, derived, replace="clip" if self.replace else None,
+                                  source=source, problems=problems)
+            affected = derived[["body", "member_id"]].drop_duplicates()
+        else:
+            merged = pd.DataFrame(columns=roster.SPELL_COLUMNS)
+            affected = pd.DataFrame(columns=["body", "member_id"])
+        if combined:
+            self._coverage(stored, merged, affected, combined, bal)
+        return merged, affected
+
+    def _observations(self, grouped: dict[int, Staged], bal: str) -> str | None:
+        parts = [f"""SELECT t.body, t.member_id, b.held_on, t.group_name, min(t.rowid) AS rid,
+                            CAST({k} AS INTEGER) AS k FROM {s.table} t JOIN {bal} b
+                     ON b.body = t.body AND b.ballot_id = t.ballot_id
+                     WHERE t.group_name IS NOT NULL AND t.member_id IS NOT NULL
+                           AND b.held_on IS NOT NULL GROUP BY ALL""" for k, s in grouped.items()]
+        self.store.stage("_bw_obs_all", " UNION ALL ".join(parts))
+        for member, day, groups, ks, rids in self.store.rows(f"""
+                SELECT member_id, held_on, list(group_name ORDER BY rid), list(k ORDER BY rid),
+                       list(rid ORDER BY rid) FROM _bw_obs_all GROUP BY body, member_id, held_on
+                HAVING count(DISTINCT group_name) > 1 ORDER BY min(rid) LIMIT {EXAMPLES}"""):
+            i = next(i for i, g in enumerate(groups) if g != groups[0])
+            add_row_problem(self.problems, self.staged[ks[i]], "member", rids[i], "group_name",
+                            groups[i], f"member {show(member)} is in group {show(groups[i])} "
+                            f"here but in {show(groups[0])} elsewhere on the same date {day}",
+                            "give a member one group per date")
+        self.store.stage("_bw_obs", """SELECT body, member_id, held_on, min(group_name) AS
+                         group_name, min(rid) AS rid, min(k) AS k FROM _bw_obs_all
+                         GROUP BY body, member_id, held_on""")
+        return "_bw_obs"
+
+    def _roster_agrees(self, obs: str, spells: pd.DataFrame, grouped: dict[int, Staged]) -> None:
+        self.store.stage_frame("_bw_roster_spells", spells[roster.SPELL_COLUMNS])
+        for k, rid, member, day, got, want in self.store.rows(f"""
+                SELECT o.k, o.rid, o.member_id, o.held_on, o.group_name, s.group_name
+                FROM {obs} o JOIN _bw_roster_spells s ON s.body = o.body
+                AND s.member_id = o.member_id AND o.held_on BETWEEN CAST(s.valid_from AS DATE)
+                AND CAST(s.valid_to AS DATE) WHERE s.group_name <> o.group_name
+                ORDER BY o.k, o.rid LIMIT {EXAMPLES}"""):
+            add_row_problem(self.problems, grouped[k], "member", rid, "group_name", got,
+                            f"member {show(member)} is in group {show(got)} on {day} here, but "
+                            f"in {show(want)} in the roster", "make the votes file and the "
+                            "roster agree, or leave the group column out")
+
+    def _coverage(self, stored, merged, affected, combined: str, bal: str) -> None:
+        """Members without any group, and cast votes outside every spell (when groups exist)."""
+        keep = stored.merge(affected, on=["body", "member_id"], how="left", indicator=True)
+        keep = keep[keep["_merge"] == "left_only"].drop(columns="_merge")
+        final = pd.concat([keep, merged], ignore_index=True)
+        if final.empty:
+            self.notes.append("note: no groups are known for this body yet — load a roster "
+                              "with --members (or a group column) before 'blocwatch build'")
+            return
+        frame = final[roster.SPELL_COLUMNS].copy()
+        frame["valid_from"] = pd.to_datetime(frame["valid_from"].astype(str))
+        frame["valid_to"] = pd.to_datetime(frame["valid_to"].astype(str), errors="coerce") \
+            .fillna(pd.Timestamp("2262-04-11"))
+        self.store.stage_frame("_bw_spells", frame)
+        missing = self.store.rows(f"""
+            SELECT n.k, min(n.rid), n.member_id, count(*) FROM {combined} n
+            WHERE n.body IN (SELECT DISTINCT body FROM _bw_spells) AND NOT EXISTS (SELECT 1 FROM
+              _bw_spells s WHERE s.body = n.body AND s.member_id = n.member_id)
+            GROUP BY n.k, n.member_id ORDER BY n.k, min(n.rid)""")
+        for k, rid, member, n in missing[:EXAMPLES * 4]:
+            add_row_problem(self.problems, self.staged[k], "member", rid, "member_id", member,
+                            f"member {show(member)} is not in the roster (no group known)",
+                            "add the member to the roster file (--members), or give the votes "
+                            "file a group column", count=n)
+        uncovered = self.store.rows(f"""
+            SELECT n.k, n.rid, n.member_id, b.held_on FROM {combined} n JOIN {bal} b
+            ON b.body = n.body AND b.ballot_id = n.ballot_id
+            WHERE n.choice <> 'absent' AND EXISTS (SELECT 1 FROM _bw_spells s WHERE
+              s.body = n.body AND s.member_id = n.member_id) AND NOT EXISTS (SELECT 1 FROM
+              _bw_spells s WHERE s.body = n.body AND s.member_id = n.member_id AND
+              b.held_on BETWEEN CAST(s.valid_from AS DATE) AND CAST(s.valid_to AS DATE))
+            ORDER BY n.k, n.rid LIMIT {EXAMPLES}""")
+        for k, rid, member, day in uncovered:
+            add_row_problem(self.problems, self.staged[k], "member", rid, "member_id", member,
+                            f"member {show(member)} votes on {day} but has no group on that "
+                            "date", "extend the member's valid_from/valid_to in the roster")
+
+    def _members(self, votes: dict[int, Staged]) -> str | None:
+        parts = [f"SELECT body, member_id, name, rowid AS rid, 0 AS src FROM {s.table} "
+                 "WHERE member_id IS NOT NULL" for s in votes.values()]
+        parts += [f"SELECT body, member_id, name, rowid AS rid, 1 AS src FROM {s.table} "
+                  "WHERE member_id IS NOT NULL" for s in self._of("roster").values()]
+        if not parts:
+            return None
+        self.store.stage("_bw_members", f"""
+            SELECT body, member_id, arg_max(name, src * 1e12 + rid) FILTER (WHERE name IS NOT
+                   NULL) AS name FROM ({' UNION ALL '.join(parts)}) GROUP BY body, member_id""")
+        return "_bw_members"
+
+    def _counts(self, votes: dict[int, Staged], bal: str) -> None:
+        for k, s in self.staged.items():
+            r = self.results[k]
+            if s.kind in ("votes", "ballots"):
+                r.ballots = int(self.store.scalar(f"SELECT count(DISTINCT (body, ballot_id)) "
+                                                  f"FROM {s.table}"))
+            if s.kind in ("votes", "roster"):
+                r.members = int(self.store.scalar(f"SELECT count(DISTINCT (body, member_id)) "
+                                                  f"FROM {s.table}"))
+
+    def _ingest_rows(self) -> list[tuple]:
+        rows = []
+        for k, s in self.staged.items():
+            for body, n in self.store.rows(f"SELECT body, count(*) FROM {s.table} GROUP BY body"):
+                rows.append((s.sha256, body, str(s.path.resolve()), int(n)))
+        return rows

@@ -1,0 +1,194 @@
+"""Group memberships: spells (member, group, valid_from, valid_to) from a roster or a votes file.
+
+A roster (``--members FILE``) has one row per spell: ``member_id, name, group`` and optional
+``valid_from`` / ``valid_to`` (inclusive ISO dates; blank means open-ended). A member who switched
+groups has one row per group. A ``group`` column in the votes file gives spells too: each run of
+ballots a member cast in the same group becomes one spell, from the run's first ballot date to
+the day before the next run's first ballot (the last run ends at its last ballot date).
+
+Spells are few next to votes (members × group changes), so they are checked and merged here in
+pandas after SQL has reduced the votes to one row per member, date and group.
+"""
+
+from __future__ import annotations
+
+from datetime import date, timedelta
+
+import pandas as pd
+
+from blocwatch.pipeline.safety import show
+from blocwatch.pipeline.store import OPEN_FROM, OPEN_TO, Store
+from blocwatch.pipeline.validate import Problem, Problems, add_row_problem
+
+SPELL_COLUMNS = ["body", "member_id", "group_name", "valid_from", "valid_to"]
+_OPEN_FROM, _OPEN_TO = date.fromisoformat(OPEN_FROM), date.fromisoformat(OPEN_TO)
+
+
+def roster_spells(store: Store, staged, problems: Problems) -> pd.DataFrame:
+    """Valid spells of a staged roster (with ``rid``); bad rows become problems."""
+    frame = store.df(
+        f"""SELECT rowid AS rid, body, member_id, name, group_name,
+                   TRY_CAST(valid_from AS DATE) AS valid_from, TRY_CAST(valid_to AS DATE) AS
+                   valid_to, valid_from IS NOT NULL AND TRY_CAST(valid_from AS DATE) IS NULL OR
+                   valid_to IS NOT NULL AND TRY_CAST(valid_to AS DATE) IS NULL AS bad_date
+            FROM {staged.table}
+            WHERE member_id IS NOT NULL AND group_name IS NOT NULL AND body IS NOT NULL
+            ORDER BY rowid""")
+    frame = frame[~frame["bad_date"].astype(bool)].drop(columns="bad_date")
+    frame["valid_from"] = [d if isinstance(d, date) else _OPEN_FROM for d in
+                           _as_dates(frame["valid_from"])]
+    frame["valid_to"] = [d if isinstance(d, date) else _OPEN_TO for d in
+                         _as_dates(frame["valid_to"])]
+    backwards = frame["valid_to"] < frame["valid_from"]
+    for row in frame[backwards].head(20).itertuples():
+        add_row_problem(problems, staged, "roster", row.rid, "valid_to", row.valid_to,
+                        f"valid_to {row.valid_to} is before valid_from {row.valid_from}",
+                        "swap the two dates, or correct the year")
+    frame = frame[~backwards]
+    overlaps = find_overlaps(frame)
+    for a, b in overlaps[:20]:
+        ra, rb = frame.loc[a], frame.loc[b]
+        line_a = _where_text(staged, int(ra.rid))
+        add_row_problem(problems, staged, "roster", int(rb.rid), "group_name", rb.group_name,
+                        f"member {show(rb.member_id)} is in group {show(rb.group_name)} from "
+                        f"{rb.valid_from} to {rb.valid_to}, which overlaps group "
+                        f"{show(ra.group_name)} from {ra.valid_from} to {ra.valid_to} "
+                        f"({line_a})", "end one membership the day before the next begins")
+    return frame
+
+
+def _where_text(staged, rid: int) -> str:
+    line, where, _ = staged.place(rid, None)
+    return f"line {line}" if line else (where or f"row {rid + 1}")
+
+
+def _as_dates(series: pd.Series) -> list:
+    out = []
+    for v in series:
+        if v is None or (isinstance(v, float) and v != v) or v is pd.NaT:
+            out.append(None)
+        elif isinstance(v, pd.Timestamp):
+            out.append(v.date())
+        else:
+            out.append(v)
+    return out
+
+
+def find_overlaps(spells: pd.DataFrame) -> list[tuple]:
+    """Index pairs (earlier, later) of spells of one member in different groups that overlap."""
+    pairs = []
+    ordered = spells.sort_values(["body", "member_id", "valid_from", "valid_to"])
+    for _, group in ordered.groupby(["body", "member_id"], sort=False):
+        if len(group) < 2:
+            continue
+        active: list = []  # (end, index, group) of spells that may still overlap
+        for idx, row in group.iterrows():
+            active = [a for a in active if a[0] >= row.valid_from]
+            for end, j, g in active:
+                if g != row.group_name:
+                    pairs.append((j, idx))
+                    break
+            active.append((row.valid_to, idx, row.group_name))
+    return pairs
+
+
+def coalesce(spells: pd.DataFrame) -> pd.DataFrame:
+    """Join spells of the same member and group that overlap or touch (end + 1 day = start)."""
+    out = []
+    ordered = spells.sort_values(["body", "member_id", "valid_from", "valid_to"])
+    for (body, member), group in ordered.groupby(["body", "member_id"], sort=False):
+        current: list = []
+        for row in group.itertuples():
+            if current and current[-1][0] == row.group_name and \
+                    row.valid_from <= _next_day(current[-1][2]):
+                current[-1][2] = max(current[-1][2], row.valid_to)
+            else:
+                current.append([row.group_name, row.valid_from, row.valid_to])
+        out.extend([body, member, g, f, t] for g, f, t in current)
+    return pd.DataFrame(out, columns=SPELL_COLUMNS)
+
+
+def _next_day(d: date) -> date:
+    return d if d >= _OPEN_TO else d + timedelta(days=1)
+
+
+def derived_spells(store: Store, obs_table: str) -> pd.DataFrame:
+    """Spells from ``obs_table`` (body, member_id, held_on DATE, group_name), one row per
+    member, date and group: runs of the same group, each ending the day before the next."""
+    return store.df(
+        f"""WITH o AS (SELECT body, member_id, held_on, group_name,
+                   CASE WHEN group_name IS DISTINCT FROM lag(group_name) OVER w THEN 1 ELSE 0
+                   END AS change FROM {obs_table} WINDOW w AS (PARTITION BY body, member_id
+                   ORDER BY held_on)),
+                 r AS (SELECT *, sum(change) OVER (PARTITION BY body, member_id ORDER BY held_on
+                   ROWS UNBOUNDED PRECEDING) AS run FROM o),
+                 s AS (SELECT body, member_id, group_name, min(held_on) AS valid_from,
+                   max(held_on) AS last_seen FROM r GROUP BY body, member_id, group_name, run)
+            SELECT body, member_id, group_name, valid_from,
+                   coalesce(CAST(lead(valid_from) OVER (PARTITION BY body, member_id ORDER BY
+                   valid_from) - INTERVAL 1 DAY AS DATE), last_seen) AS valid_to
+            FROM s ORDER BY body, member_id, valid_from""")
+
+
+def merge(stored: pd.DataFrame, new: pd.DataFrame, *, replace: str | None, source: str,
+          problems: Problems) -> pd.DataFrame:
+    """Spells of the members in ``new`` after adding them to the ``stored`` ones.
+
+    ``replace``: ``None`` keeps stored spells and reports overlaps in another group as
+    conflicts; ``"all"`` drops the members' stored spells (a roster is the full list);
+    ``"clip"`` cuts stored spells where new ones cover the dates (a votes file covers a stretch).
+    """
+    if new.empty:
+        return new.reindex(columns=SPELL_COLUMNS)
+    new = new[SPELL_COLUMNS].copy()
+    keys = new[["body", "member_id"]].drop_duplicates()
+    old = stored.merge(keys, on=["body", "member_id"])[SPELL_COLUMNS]
+    if replace == "all":
+        old = old.iloc[0:0]
+    elif replace == "clip":
+        old = _clip(old, new)
+    both = pd.concat([old.assign(_src="stored"), new.assign(_src="new")], ignore_index=True)
+    for a, b in find_overlaps(both)[:50]:
+        ra, rb = both.loc[a], both.loc[b]
+        if ra._src == rb._src:
+            continue  # within one source: reported by its own checks
+        s, n = (ra, rb) if ra._src == "stored" else (rb, ra)
+        problems.add(Problem("conflict", source, f"puts member {show(n.member_id)} in group "
+                             f"{show(n.group_name)} from {n.valid_from} to {n.valid_to}, but the "
+                             f"store has them in {show(s.group_name)} from {s.valid_from} to "
+                             f"{s.valid_to}", "pass --replace to overwrite the stored "
+                             "membership, or correct the dates", column=None,
+                             value=n.member_id))
+    return coalesce(both.drop(columns="_src"))
+
+
+def _clip(old: pd.DataFrame, new: pd.DataFrame) -> pd.DataFrame:
+    """``old`` spells minus the date ranges of ``new`` spells of the same member."""
+    out = []
+    cover = {k: list(zip(g.valid_from, g.valid_to)) for k, g in
+             new.groupby(["body", "member_id"])}
+    for row in old.itertuples(index=False):
+        pieces = [(row.valid_from, row.valid_to)]
+        for f, t in cover.get((row.body, row.member_id), []):
+            nxt = []
+            for a, b in pieces:
+                if t < a or f > b:
+                    nxt.append((a, b))
+                    continue
+                if a < f:
+                    nxt.append((a, f - timedelta(days=1)))
+                if t < b:
+                    nxt.append((t + timedelta(days=1), b))
+            pieces = nxt
+        out.extend([row.body, row.member_id, row.group_name, a, b] for a, b in pieces)
+    return pd.DataFrame(out, columns=SPELL_COLUMNS)
+
+
+def stored_spells(store: Store, bodies: list[str]) -> pd.DataFrame:
+    if not bodies:
+        return pd.DataFrame(columns=SPELL_COLUMNS)
+    frame = store.df("SELECT body, member_id, group_name, valid_from, valid_to FROM memberships "
+                     "WHERE list_contains(?, body)", [bodies])
+    for col in ("valid_from", "valid_to"):
+        frame[col] = _as_dates(frame[col])
+    return frame[SPELL_COLUMNS]
