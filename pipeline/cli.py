@@ -394,3 +394,44 @@ def schedule(cron, systemd_dir, project, when, at, name, user):
         click.echo(f"wrote {path}")
     click.echo(f"enable: systemctl --user daemon-reload && systemctl --user enable --now "
                f"{name}.timer (or copy to /etc/systemd/system and drop --user)")
+
+
+@cli.command()
+@click.argument("files", nargs=-1, type=click.Path(dir_okay=False))
+@store_option
+@click.option("--body", default=None,
+              help="Body of every row (required unless the files have a body column).")
+@click.option("--members", type=click.Path(dir_okay=False), default=None,
+              help="Roster file: member_id, name, group[, valid_from, valid_to].")
+@click.option("--layout", type=click.Choice(["long", "wide"]), default="long",
+              show_default=True,
+              help="long: one row per member per ballot; wide: one row per member, one column "
+                   "per ballot (CSV or .xlsx).")
+@click.option("--codes", type=click.Path(dir_okay=False), default=None,
+              help="Extra vote codes: CSV with columns raw,choice (choice: yes/no/abstain/absent).")
+@click.option("--ballots", type=click.Path(dir_okay=False), default=None,
+              help="Ballot dates and titles: ballot_id, held_on[, title, item].")
+@click.option("--column", "columns", multiple=True, metavar="FIELD=HEADER",
+              help="Read FIELD from the column HEADER, e.g. --column member=MP_ID (repeatable; "
+                   "fields: body ballot date member vote group name title item valid_from "
+                   "valid_to).")
+@click.option("--replace", is_flag=True,
+              help="Let the files overwrite stored ballots, votes and memberships they "
+                   "contradict (default: a conflict is an error).")
+@click.option("--check", is_flag=True,
+              help="Only check: list every problem, grouped and counted; write nothing.")
+@handle_errors
+def ingest(files, store_path, body, members, layout, codes, ballots, columns, replace, check):
+    """Load ballot files into the store, all or nothing (a file already loaded is skipped)."""
+    from blocwatch.pipeline.errors import EXIT_BAD_INPUT
+    from blocwatch.pipeline.ingest import ingest_files, ingest_store
+    from blocwatch.pipeline.readers import parse_column_options
+
+    with ingest_store(resolve_store(store_path), check_only=check) as store:
+        report = ingest_files(store, files, body=body, members=members, layout=layout,
+                              codes=codes, replace=replace, columns=parse_column_options(columns),
+                              ballots=ballots, check_only=check)
+    for line in report.lines():
+        click.echo(line)
+    if check and report.problems:
+        sys.exit(EXIT_BAD_INPUT)

@@ -23,6 +23,8 @@ Decisions worth knowing:
 
 from __future__ import annotations
 
+import contextlib
+from collections.abc import Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -166,6 +168,21 @@ def ingest_files(store: Store, paths, *, body: str | None, members=None, layout:
             raise report.problems.first_error()
         store.drop_staged()
     return report
+
+
+@contextlib.contextmanager
+def ingest_store(store_path: str | Path, *, check_only: bool = False) -> Iterator[Store]:
+    """The store a load goes into: locked for writing; for a check, opened read-only (an empty
+    in-memory store if the file does not exist yet, so a check never creates one)."""
+    if check_only:
+        exists = Path(store_path).exists()
+        with Store(store_path if exists else ":memory:", read_only=exists) as store:
+            yield store
+        return
+    from blocwatch.pipeline.lock import locked_store
+
+    with locked_store(store_path, "ingest") as store:
+        yield store
 
 
 def _mapping(codes) -> dict[str, str] | None:

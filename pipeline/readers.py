@@ -97,6 +97,18 @@ def parse_columns(pairs: dict[str, str] | None) -> dict[str, str]:
     return out
 
 
+def parse_column_options(items) -> dict[str, str]:
+    """``["member=MP_ID", ...]`` (the repeatable ``--column`` option) → ``{field: header}``."""
+    pairs: dict[str, str] = {}
+    for item in items or ():
+        key, sep, header = str(item).partition("=")
+        if not sep:
+            raise UsageError(f"--column {item}", "is not FIELD=HEADER",
+                             "write e.g. --column member=MP_ID")
+        pairs[key.strip()] = header
+    return parse_columns(pairs)
+
+
 def file_format(path: Path) -> str | None:
     return FORMATS.get(path.suffix.lower())
 
