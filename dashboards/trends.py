@@ -119,7 +119,8 @@ def trend_chart(metrics: pd.DataFrame, metric: str, *, trends: pd.DataFrame | No
         template=palette.template(), title=dict(text=esc(info.label)),
         xaxis=dict(title=dict(text="Period (middle)" if dated else "Period"),
                    type="date" if dated else "category"),
-        yaxis=dict(title=dict(text=esc(info.label))), showlegend=True, height=400,
+        yaxis=dict(title=dict(text=esc(info.label)), dtick=1 if info.integer else None),
+        showlegend=True, height=400,
         legend=dict(traceorder="normal"))
     return Chart(name=f"{name_prefix}-{metric}", title=info.label, fig=fig,
                  alt=_alt(data, info.label, metric), data=data,
@@ -138,9 +139,12 @@ def _alt(data: pd.DataFrame, label: str, metric: str) -> str:
     if have.empty:
         return f"{label}: not computed for any period."
     first, last = data["period"].iloc[0], data["period"].iloc[-1]
-    who = bodies[0] if len(bodies) == 1 else f"{len(bodies)} bodies ({', '.join(bodies)})"
-    text = (f"Line chart of {label} for {who} over {data['period'].nunique()} periods from "
-            f"{first} to {last}; values range from {labels.fmt(have['value'].min(), metric)} to "
+    if len(bodies) == 1:
+        who = f"{bodies[0]} over {data['period'].nunique()} periods"
+    else:
+        who = f"{len(bodies)} bodies ({', '.join(bodies)})"
+    text = (f"Line chart of {label} for {who} from {first} to {last}; values range from "
+            f"{labels.fmt(have['value'].min(), metric)} to "
             f"{labels.fmt(have['value'].max(), metric)}.")
     if data["low"].notna().any():
         text += " A shaded band shows each period's interval."

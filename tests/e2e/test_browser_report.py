@@ -1,0 +1,138 @@
+"""The report in a real headless Chromium: offline load, every chart drawn, nothing injected.
+
+Pages load from file:// while every non-file request is intercepted and failed (and recorded);
+the console must stay free of errors, and the hostile names must show up as plain text.
+"""
+
+import json
+import shutil
+from pathlib import Path
+
+import pytest
+
+from blocwatch.dashboards.html import plotly_js
+from blocwatch.dashboards.report import write_report
+from tests.browser_util import Browser, chromium_path
+from tests.dash_synthetic import EVIL_GROUP, EVIL_MEMBER, HARBOUR, make_tables
+
+pytestmark = [pytest.mark.browser,
+              pytest.mark.skipif(chromium_path() is None,
+                                 reason="needs headless Chromium (Debian package chromium)")]
+ARTIFACTS = Path(__file__).resolve().parents[1] / "artifacts"
+BRIEFING = "briefing-harbour-board-of-veldmark.html"
+
+PLOTS = """Array.from(document.querySelectorAll('.js-plotly-plot')).map(function (gd) {
+  return {id: gd.id, traces: gd.data.length, drawn: gd.querySelectorAll('g.trace').length,
+          types: gd.data.map(function (t) { return t.type || 'scatter'; }),
+          modes: gd.data.map(function (t) { return t.mode || ''; }),
+          points: gd.querySelectorAll('.scatterlayer .trace .points path').length}; })"""
+
+
+@pytest.fixture(scope="module")
+def site(tmp_path_factory):
+    out = tmp_path_factory.mktemp("site")
+    tables = make_tables(evil=True)
+    write_report(out, tables, images=False)
+    return out, tables
+
+
+@pytest.fixture(scope="module")
+def browser():
+    with Browser(chromium_path(), width=800, height=1000) as b:
+        yield b
+
+
+def load(browser, path: Path):
+    browser.events.clear()
+    browser.blocked.clear()
+    browser.open(path.as_uri())
+    browser.wait_for("window.__bwCharts === undefined || "
+                     "window.__bwRendered + window.__bwErrors.length === window.__bwCharts")
+
+
+def test_interception_really_blocks_the_network(browser, tmp_path):
+    # Sanity check of the harness: a page asking for a remote image gets it failed and logged.
+    page = tmp_path / "probe.html"
+    page.write_text("<!doctype html><img src='http://127.0.0.1:9/probe.png'>")
+    load(browser, page)
+    browser.pump(0.5)
+    assert any("127.0.0.1:9/probe.png" in u for u in browser.blocked)
+
+
+def test_briefing_renders_every_chart_offline(site, browser):
+    out, tables = site
+    load(browser, out / BRIEFING)
+    assert browser.eval("window.__bwErrors") == []
+    plots = browser.eval(PLOTS)
+    m = tables.metrics[tables.metrics.body == HARBOUR]
+    cps = json.loads(tables.trends.loc[tables.trends.body == HARBOUR, "change_points"].iloc[0])
+    periods = sorted({m.period.min(), m.period.max(), *cps})
+    # One trend chart per metric with any value, one network per chosen period, one heat map.
+    n_metrics = m[m.value.notna()].metric.nunique()
+    assert len(plots) == browser.eval("window.__bwCharts") == n_metrics + len(periods) + 1
+    trends = [p for p in plots if "-trend-" in p["id"]]
+    networks = [p for p in plots if "-network-" in p["id"]]
+    heat = [p for p in plots if p["id"].endswith("groups-heatmap")]
+    assert len(trends) == n_metrics and len(networks) == len(periods) and len(heat) == 1
+    for p in trends:
+        assert p["modes"].count("lines+markers") == 1  # one body on its own page
+        assert p["drawn"] == p["traces"]  # every trace reached the SVG
+    members = tables.members[(tables.members.body == HARBOUR)]
+    for p in networks:
+        period = p["id"].rsplit("network-", 1)[1]
+        n = members[members.period == period].member_id.nunique()
+        assert p["points"] == n  # one drawn marker per member
+    assert heat[0]["types"] == ["heatmap"] * len(periods)
+    assert browser.blocked == []
+    assert browser.errors() == []
+
+
+def test_hostile_names_are_text_and_run_nothing(site, browser):
+    out, _ = site
+    load(browser, out / BRIEFING)
+    assert browser.eval("typeof window.__pwned") == "undefined"
+    assert browser.eval("document.querySelectorAll('img').length") == 0
+    text = browser.eval("document.body.innerText")
+    assert EVIL_MEMBER in text and EVIL_GROUP in text
+    legend = browser.eval("Array.from(document.querySelectorAll('.legendtext'))"
+                          ".map(function (e) { return e.textContent; })")
+    assert EVIL_GROUP in legend  # plotly shows the escaped name as the original characters
+    assert not any("dialog" in e for e in browser.errors())
+
+
+def test_readable_at_800px_and_screenshot_saved(site, browser):
+    out, _ = site
+    load(browser, out / BRIEFING)
+    assert browser.eval("document.documentElement.scrollWidth") <= 800
+    shot = browser.screenshot(ARTIFACTS / "briefing-harbour-board-of-veldmark.png")
+    assert shot.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" and shot.stat().st_size > 20_000
+
+
+def test_comparison_page_shows_every_body_per_chart(site, browser):
+    out, tables = site
+    load(browser, out / "comparison.html")
+    plots = browser.eval(PLOTS)
+    assert len(plots) == tables.metrics[tables.metrics.value.notna()].metric.nunique()
+    for p in plots:
+        bodies_with_metric = tables.metrics[tables.metrics.value.notna()
+                                            & (tables.metrics.metric == p["id"].split(
+                                                "compare-", 1)[1])].body.nunique()
+        assert p["modes"].count("lines+markers") == bodies_with_metric
+    assert browser.errors() == [] and browser.blocked == []
+    browser.screenshot(ARTIFACTS / "comparison.png")
+
+
+def test_snippets_render_on_a_host_page(site, browser, tmp_path):
+    out, _ = site
+    (tmp_path / "plotly.min.js").write_text(plotly_js())
+    pieces = out / "embed" / "harbour-board-of-veldmark"
+    snippets = [(pieces / f"{name}.div.html").read_text()
+                for name in ("trend-group_modularity", "network-2001")]
+    host = tmp_path / "host.html"
+    host.write_text("<!doctype html><meta charset='utf-8'><script src='plotly.min.js'></script>"
+                    "<h1>Board paper</h1>" + "".join(snippets))
+    shutil.copy(out / "index.html", tmp_path / "index.html")
+    load(browser, host)
+    browser.wait_for("document.querySelectorAll('.js-plotly-plot .main-svg').length >= 2")
+    assert browser.eval("document.querySelectorAll('.js-plotly-plot').length") == 2
+    assert browser.errors() == [] and browser.blocked == []
