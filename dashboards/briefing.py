@@ -16,7 +16,8 @@ from blocwatch.dashboards.tables import ReportTables
 from blocwatch.dashboards.trends import change_points, trend_chart
 
 TREND_COLUMNS = {"period": "Period", "value": "Value", "low": "Low", "high": "High",
-                 "null_mean": "Shuffled-group mean", "n_members": "Members",
+                 "null_mean": "Shuffled-group mean", "null_p": "Permutation p",
+                 "n_members": "Members",
                  "n_ballots": "Ballots", "change_point": "Change point", "note": "Note"}
 
 
@@ -88,7 +89,7 @@ def build_briefing(tables: ReportTables, body: str, *, colours: dict[str, str],
     parts.append(chart_block(c, f"bw-{key}-{c.name}", {
         "period": "Period", "group_a": "Group", "group_b": "Group", "agreement": "Agreement",
         "n_pairs": "Pairs"}))
-    parts.append(_bridges(t, body, n_bridges, bridge))
+    parts.append(_bridges(t, body, n_bridges, bridge, chosen))
     parts.append(text.reading_html())
     parts.append(text.methods_html(names, sorted(t.members["metric"].dropna().unique())))
     parts.append(text.provenance_html(tables.provenance, sorted(m["run_id"].dropna().unique())))
@@ -97,7 +98,8 @@ def build_briefing(tables: ReportTables, body: str, *, colours: dict[str, str],
     return html, charts
 
 
-def _bridges(t: ReportTables, body: str, n: int, bridge: str | None) -> str:
+def _bridges(t: ReportTables, body: str, n: int, bridge: str | None,
+             chosen: list[str]) -> str:
     order = period_table(t.metrics)["period"].tolist()
     order += sorted(set(t.members["period"].dropna()) - set(order))
     table, used = top_bridges(t.members, body, order, n=n, metric=bridge)
@@ -106,12 +108,16 @@ def _bridges(t: ReportTables, body: str, n: int, bridge: str | None) -> str:
         return (head + "<p class='bw-muted'>Not computed: no member scores in the results.</p>"
                 "</section>")
     label = bridge_label(used)
-    intro = (f"<p>The {n} members with the highest {esc(label.lower())} in each period. This is "
-             "a description of recorded votes, not a judgement of anyone: see the notes "
-             "below.</p>")
-    return head + intro + numbers_table(table, {
-        "period": "Period", "rank": "Rank", "name": "Member", "group": "Group",
-        "score": label}, metric=used or "") + "</section>"
+    cols = {"period": "Period", "rank": "Rank", "name": "Member", "group": "Group",
+            "score": label}
+    short = table[table["period"].isin(chosen)] if chosen else table
+    intro = (f"<p>The {n} members with the highest {esc(label.lower())} in the periods pictured "
+             "above. This describes recorded votes; it is not a judgement of anyone (see "
+             "the notes below).</p>")
+    every = (f"<details><summary>Every period ({table['period'].nunique()})</summary>"
+             f"{numbers_table(table, cols, metric=used or '')}</details>")
+    return (head + intro + numbers_table(short, cols, metric=used or "") + every
+            + "</section>")
 
 
 def _span(m: pd.DataFrame) -> str:

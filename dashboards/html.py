@@ -91,6 +91,8 @@ def _cell(col: str, v, metric: str) -> str:
         return f"<td>{v:%Y-%m-%d}</td>"
     if isinstance(v, bool):
         return f"<td>{'yes' if v else ''}</td>"
+    if isinstance(v, (int, float)) and col.endswith("_p"):
+        return f"<td class='num'>{'&lt;0.001' if v < 0.001 else f'{v:.3f}'}</td>"
     if isinstance(v, (int, float)):
         kind = "communities" if col in INT_COLUMNS else metric if col in VALUE_COLUMNS else col
         return f"<td class='num'>{esc(labels.fmt(v, kind))}</td>"

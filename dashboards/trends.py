@@ -44,7 +44,7 @@ def _series(metrics: pd.DataFrame, metric: str, trends) -> pd.DataFrame:
         cps = set(change_points(trends, body, metric))
         data.loc[(data["body"] == body) & data["period"].isin(cps), "change_point"] = True
     keep = ["body", "period", "period_start", "period_end", "x", "value", "low", "high",
-            "null_mean", "n_members", "n_ballots", "change_point", "note"]
+            "null_mean", "null_p", "n_members", "n_ballots", "change_point", "note"]
     return data[keep].reset_index(drop=True)
 
 
