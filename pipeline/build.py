@@ -91,8 +91,9 @@ def write_trends(store: Store, run_id: int, body: str) -> None:
         y = series["value"].to_numpy(dtype=float)
         x = np.arange(len(y), dtype=float)
         summary = trend_summary(y, x)
-        cps = [str(series["period"].iloc[i]) for i in summary.get("change_points", [])
-               if 0 <= i < len(series)]
+        # change_index: positions in the NaN-free series (change_points are x values)
+        cps = [str(series["period"].iloc[int(i)]) for i in summary.get("change_index", [])
+               if 0 <= int(i) < len(series)]
         rows.append({"run_id": run_id, "body": body, "metric": metric,
                      **{k: summary.get(k) for k in ("n_periods", "mk_s", "mk_z", "mk_p", "tau",
                                                     "slope", "slope_low", "slope_high")},
