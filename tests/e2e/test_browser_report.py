@@ -4,6 +4,7 @@ Pages load from file:// while every non-file request is intercepted and failed (
 the console must stay free of errors, and the hostile names must show up as plain text.
 """
 
+import base64
 import json
 import shutil
 from pathlib import Path
@@ -136,3 +137,20 @@ def test_snippets_render_on_a_host_page(site, browser, tmp_path):
     browser.wait_for("document.querySelectorAll('.js-plotly-plot .main-svg').length >= 2")
     assert browser.eval("document.querySelectorAll('.js-plotly-plot').length") == 2
     assert browser.errors() == [] and browser.blocked == []
+
+
+def test_print_stylesheet_and_pdf(site, browser):
+    out, _ = site
+    load(browser, out / BRIEFING)
+    browser.call("Emulation.setEmulatedMedia", media="print")
+    try:
+        assert browser.eval("getComputedStyle(document.querySelector('nav')).display") == "none"
+        assert browser.eval("getComputedStyle(document.body).maxWidth") == "none"
+    finally:
+        browser.call("Emulation.setEmulatedMedia", media="")
+    pdf = browser.call("Page.printToPDF", paperWidth=8.27, paperHeight=11.69)["data"]
+    assert base64.b64decode(pdf)[:5] == b"%PDF-"  # [S: PDF specification header]
+    # Printing opened every numbers table so the paper copy carries them.
+    assert browser.eval("Array.from(document.querySelectorAll('details'))"
+                        ".every(function (d) { return d.open; })")
+    assert browser.errors() == []
