@@ -51,6 +51,7 @@ class SourceFile:
     path: Path
     sha256: str
     state: str  # "new", "changed" (same path, other content) or "loaded"
+    kind: str = "votes"  # or "members" (roster) or "ballots"
 
 
 @dataclass(frozen=True)
@@ -99,7 +100,13 @@ def scan_sources(store: Store | None, cfg: Config, body: str | None = None) -> l
                                         [name]):
                 loaded.setdefault(sha, set()).add(file)
         seen_paths = {f for files in loaded.values() for f in files}
-        for path in body_sources(name, cfg):
+        files = [(p, "votes") for p in body_sources(name, cfg)]
+        aux = body_ingest_options(name, cfg)
+        files += [(Path(aux[k]).resolve(), k) for k in ("members", "ballots") if k in aux]
+        for path, kind in files:
+            if not path.is_file():
+                raise UsageError(f"config: bodies.{name}.{kind}", f"names {path}, which does "
+                                 "not exist", "fix the path (relative to blocwatch.toml)")
             sha = file_sha256(path)
             if sha in loaded:
                 state = "loaded"
@@ -107,7 +114,7 @@ def scan_sources(store: Store | None, cfg: Config, body: str | None = None) -> l
                 state = "changed"
             else:
                 state = "new"
-            out.append(SourceFile(name, path, sha, state))
+            out.append(SourceFile(name, path, sha, state, kind))
     return out
 
 
@@ -145,19 +152,20 @@ def stale_periods(store: Store, options: BuildOptions, body: str | None = None) 
 
 
 def _ingest(store: Store, cfg: Config, pending: list[SourceFile]) -> list[SourceFile]:
+    """Load each body's pending files: changed ones first (they replace what they said before),
+    then new ones (a conflict with stored votes is an error unless the body sets replace).
+    The roster and ballots files go with every call; a call skips them once loaded."""
     from blocwatch.pipeline.ingest import ingest_files
 
     done = []
     for name in dict.fromkeys(s.body for s in pending):
-        files = [s for s in pending if s.body == name]
         opts = body_ingest_options(name, cfg)
-        replace_all = bool(cfg.bodies.get(name, {}).get("replace", False))
-        # A changed file is the authority for its own ballots; a new one must not overwrite
-        # other files' votes unless the body says so.
-        for replace in (False, True):
-            group = [s for s in files if (replace_all or s.state == "changed") == replace]
+        replace_new = bool(cfg.bodies.get(name, {}).get("replace", False))
+        for state, replace in (("changed", True), ("new", replace_new)):
+            group = [s for s in pending if s.body == name and s.state == state]
             if group:
-                ingest_files(store, [s.path for s in group], body=name, replace=replace, **opts)
+                ingest_files(store, [s.path for s in group if s.kind == "votes"], body=name,
+                             replace=replace, **opts)
                 done += group
     return done
 

@@ -61,8 +61,10 @@ class StatusReport:
             out.append(f"  periods built: {len(b.periods)}{span}")
             if b.last_ingest:
                 li = b.last_ingest
-                out.append(f"  last ingest: {li['file']} ({li['rows']} rows) at "
-                           f"{li['loaded_at']}")
+                files = li["files"] if len(li["files"]) <= 3 else \
+                    [*li["files"][:2], f"{len(li['files']) - 2} more"]
+                out.append(f"  last ingest: {li['loaded_at']}, {li['rows']} rows from "
+                           f"{', '.join(files)}")
             else:
                 out.append("  last ingest: none")
             if b.pending_files:
@@ -145,12 +147,14 @@ def _bodies(store: Store | None, cfg: Config, opts: BuildOptions,
             last and str(last)
         bs.periods = [r[0] for r in store.rows(
             "SELECT period FROM periods WHERE body = ? ORDER BY period_start", [name])]
-        ingest = store.df("SELECT file, rows, loaded_at FROM ingests WHERE body = ? "
-                          "ORDER BY loaded_at DESC LIMIT 1", [name])
+        # One load writes all its files with one time stamp: report that load whole.
+        ingest = store.df("SELECT file, rows, loaded_at FROM ingests WHERE body = ? AND "
+                          "loaded_at = (SELECT max(loaded_at) FROM ingests WHERE body = ?) "
+                          "ORDER BY file", [name, name])
         if not ingest.empty:
-            row = ingest.iloc[0]
-            bs.last_ingest = {"file": row["file"], "rows": int(row["rows"]),
-                              "loaded_at": str(row["loaded_at"])}
+            bs.last_ingest = {"files": ingest["file"].tolist(),
+                              "rows": int(ingest["rows"].sum()),
+                              "loaded_at": str(ingest["loaded_at"].iloc[0])}
     for s in stale_periods(store, opts, body):
         if s.body in out:
             out[s.body].stale.append([s.period, s.reason])

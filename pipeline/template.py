@@ -64,9 +64,9 @@ def _body(name: str | None) -> list[str]:
         "loads each file the globs match whose content (sha256) it has not loaded yet; a file "
         "whose content changed since it was loaded replaces that file's votes. Keys: sources "
         "(globs), members (roster file), layout (long or wide), codes (mapping file, or a table "
-        "of spelling = choice), columns (a table of blocwatch column = your column), ballots "
-        "(ballots file for the wide layout), replace (true: a changed or overlapping file "
-        "replaces stored votes)."
+        "of spelling = choice), columns (a table of field = your column, fields ballot, date, "
+        "member, vote, group, name, title, item), ballots (ballots file for the wide layout), "
+        "replace (true: a new file may also overwrite stored votes it contradicts)."
     )]
     body = [
         f"[bodies.{json.dumps(name or 'Example Assembly', ensure_ascii=False)}]",
@@ -74,7 +74,7 @@ def _body(name: str | None) -> list[str]:
         'members = "data/roster.csv"',
         'layout = "long"',
         '# codes = { Aye = "yes", Nay = "no", Abs = "abstain" }',
-        '# columns = { ballot_id = "Division", date = "Date", member_id = "MP", vote = "Vote" }',
+        '# columns = { ballot = "Division", date = "Date", member = "MP", vote = "Vote" }',
     ]
     if name is None:
         body = ["# " + line if not line.startswith("# ") else line for line in body]
