@@ -68,7 +68,7 @@ def _normalise(name: str, frame: pd.DataFrame | None) -> pd.DataFrame:
     for col in columns:
         if col not in out.columns:
             out[col] = pd.NA
-    for col in out.columns:
+    for col in columns:  # columns beyond the schema are kept as they came
         if col in _DATES:
             out[col] = pd.to_datetime(out[col], errors="coerce")
         elif col in _TEXT:

@@ -41,3 +41,9 @@ def test_bodies_groups_and_for_body():
     one = t.for_body(TARN)
     assert set(one.metrics.body) == {TARN} and set(one.edges.body) == {TARN}
     assert one.provenance == t.provenance
+
+
+def test_extra_columns_pass_through_untouched():
+    t = ReportTables(metrics=pd.DataFrame({"body": ["B"], "period": ["2001"], "metric": ["m"],
+                                           "value": [0.1], "source": ["roll 12"]}))
+    assert t.metrics["source"].iloc[0] == "roll 12"
