@@ -159,3 +159,30 @@ def test_optional_images_without_browser_are_skipped_with_a_note(tmp_path):
 def test_colliding_body_names_get_distinct_keys():
     keys = body_slugs(["Board A", "board-a", "comparison"])
     assert len(set(keys.values())) == 3 and keys["comparison"] != "comparison"
+
+
+@pytest.mark.parametrize("only", ["metrics", "members", "group_agreement", "trends", "edges"])
+def test_any_single_table_alone_still_makes_pages(tmp_path, only):
+    full = make_tables(two_bodies=False, n_members=6, n_periods=3)
+    tables = ReportTables(**{only: getattr(full, only)})
+    paths = write_report(tmp_path, tables, images=False)
+    briefing = tmp_path / "briefing-harbour-board-of-veldmark.html"
+    assert briefing in paths
+    html = briefing.read_text()
+    assert "Reading these figures" in html and "Not computed" in html
+
+
+def test_odd_values_do_not_crash(tmp_path):
+    t = make_tables(two_bodies=False, n_members=6, n_periods=4)
+    t.trends.loc[:, "change_points"] = "[]"
+    t.members.loc[t.members.index[:5], "name"] = None
+    t.members.loc[t.members.index[5:9], "group_name"] = None
+    t.edges = pd.concat([t.edges, pd.DataFrame({
+        "body": [HARBOUR], "period": ["2001"], "member_a": ["stranger"],
+        "member_b": [t.edges.member_a.iloc[0]], "agreement": [0.5]})])
+    t = ReportTables(metrics=t.metrics, members=t.members, group_agreement=t.group_agreement,
+                     trends=t.trends, edges=t.edges)
+    write_report(tmp_path, t, images=False)
+    spec = json.loads((tmp_path / "embed/harbour-board-of-veldmark/network-2001.json").read_text())
+    names = [tr["name"] for tr in spec["data"] if tr.get("mode") == "markers"]
+    assert "no group" in names  # the stranger and the ungrouped members
