@@ -26,7 +26,7 @@ BUILD_SECTION = "build"
 OUTPUT_COMMANDS = ("report", "rebuild")  # their --out comes from top-level ``output``
 _NOT_CONFIGURABLE = ("store_path", "help", "config_path")
 # Flags that say what to do this time rather than how: never taken from the file.
-ACTIONS = {"rebuild": ("full",), "schedule": ("cron", "systemd_dir")}
+ACTIONS = {"rebuild": ("full",), "schedule": ("cron", "systemd_dir"), "ingest": ("check",)}
 
 
 def flag_key(param: click.Parameter) -> str:
@@ -66,14 +66,23 @@ def _convert(cfg: Config, section: str, key: str, param: click.Parameter, value)
     where = f"{section}.{key}"
     if isinstance(param, click.Option) and param.is_flag and not isinstance(value, bool):
         raise key_error(where, f"is {value!r}", "true or false", cfg.path)
-    if isinstance(value, (dict, list)) and not param.multiple and (param.nargs == 1):
+    if param.multiple:
+        if not isinstance(value, list):
+            raise key_error(where, f"is {value!r}", "a list, e.g. [\"a\", \"b\"]", cfg.path)
+        return tuple(_convert_one(cfg, where, key, param, v) for v in value)
+    if isinstance(value, (dict, list)):
         raise key_error(where, f"is {value!r}", "a single value", cfg.path)
+    return _convert_one(cfg, where, key, param, value)
+
+
+def _convert_one(cfg: Config, where: str, key: str, param: click.Parameter, value):
+    if isinstance(param.type, (click.types.StringParamType, click.Path)) \
+            and not isinstance(value, str):
+        raise key_error(where, f"is {value!r}", "text in quotes", cfg.path)
     try:
         converted = param.type.convert(value, param, None)
     except click.BadParameter as exc:
-        choices = getattr(param.type, "choices", None)
-        allowed = ", ".join(map(str, choices)) if choices else exc.message
-        raise key_error(where, f"is {value!r}", allowed, cfg.path) from None
+        raise key_error(where, f"is {value!r}", _allowed(param.type, exc), cfg.path) from None
     if isinstance(param.type, click.Path) and isinstance(converted, str):
         converted = str(cfg.resolve(converted))
     if key == "period" and isinstance(converted, str) and converted.startswith("terms:"):
@@ -82,18 +91,44 @@ def _convert(cfg: Config, section: str, key: str, param: click.Parameter, value)
     return converted
 
 
+def _allowed(kind: click.ParamType, exc: click.BadParameter) -> str:
+    if isinstance(kind, click.Choice):
+        return ", ".join(map(str, kind.choices))
+    number = {click.INT: "an integer", click.FLOAT: "a number"}
+    if isinstance(kind, (click.IntRange, click.FloatRange)):
+        what = "an integer" if isinstance(kind, click.IntRange) else "a number"
+        return f"{what} with {kind._describe_range()}"
+    return number.get(kind, exc.message)
+
+
 def _check_spec(cfg: Config, where: str, key: str, value) -> None:
     """Period and rule specs are checked now, so the message names the config key."""
     from blocwatch.pipeline.graphs import parse_rule
     from blocwatch.pipeline.periods import parse_period_spec
+    from blocwatch.pipeline.schedule import parse_at
 
-    check = {"period": parse_period_spec, "rule": parse_rule}.get(key)
+    check = {"period": parse_period_spec, "rule": parse_rule, "at": parse_at}.get(key)
     if check is None:
         return
     try:
         check(value)
     except BlocwatchError as exc:
         raise key_error(where, f"is {value!r} ({exc.why})", exc.fix, cfg.path) from None
+
+
+def _single_body(cfg: Config, params: dict) -> dict[str, tuple[str, object]]:
+    """With exactly one configured body, ``ingest`` defaults to it and its file settings."""
+    if len(cfg.bodies) != 1:
+        return {}
+    name, body = next(iter(cfg.bodies.items()))
+    where = f"bodies.{name}"
+    out: dict[str, tuple[str, object]] = {"body": (where, name)}
+    for key in ("members", "ballots", "layout", "codes"):
+        if key in body and key in params and isinstance(body[key], str):
+            out[key] = (where, body[key])
+    if isinstance(body.get("columns"), dict) and "column" in params:
+        out["column"] = (where, [f"{k}={v}" for k, v in body["columns"].items()])
+    return {k: v for k, v in out.items() if k in params}
 
 
 def default_map(cfg: Config, group: click.Group) -> dict[str, dict]:
@@ -115,6 +150,8 @@ def default_map(cfg: Config, group: click.Group) -> dict[str, dict]:
             for key, value in cfg.section(BUILD_SECTION).items():
                 if key in build_keys and key in params:
                     values[key] = (BUILD_SECTION, value)
+        if name == "ingest":
+            values.update(_single_body(cfg, params))
         for key, value in cfg.section(name).items():
             values[key] = (name, value)
         converted = {params[key].name: _convert(cfg, section, key, params[key], value)
