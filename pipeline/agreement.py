@@ -37,6 +37,9 @@ class AgreementOptions:
     lopsided : leave out ballots whose minority share is below this (default 0.0, off).
     min_share_cast : members who cast fewer than this share of the period's counted ballots are
         left out of the period and counted (default 0.25).
+    measure : ``match`` (default: share of shared ballots answered alike, or 1 − scaled
+        distance on scored ballots), ``kappa`` or ``kappa-quadratic`` (chance-corrected, graph
+        weight max(κ, 0)); see :mod:`blocwatch.pipeline.scored`.
     """
 
     abstain_as_position: bool = False
@@ -44,6 +47,7 @@ class AgreementOptions:
     drop_unanimous: bool = True
     lopsided: float = DEFAULT_LOPSIDED
     min_share_cast: float = DEFAULT_MIN_SHARE_CAST
+    measure: str = "match"
 
 
 def position_arrays(votes: np.ndarray, *, abstain_as_position: bool = False

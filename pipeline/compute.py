@@ -5,6 +5,7 @@ it on a matrix it was handed.
 
 from __future__ import annotations
 
+import dataclasses
 import hashlib
 import json
 from dataclasses import asdict, dataclass, field
@@ -17,6 +18,7 @@ from blocwatch.metrics.cohesion import group_agreement_matrix
 from blocwatch.metrics.member_registry import compute_members
 from blocwatch.metrics.nulls import label_permutation_null
 from blocwatch.metrics.resampling import ballot_weights, percentile_interval, stable_seed
+from blocwatch.pipeline import scored
 from blocwatch.pipeline.agreement import (
     AgreementOptions,
     agreement_counts,
@@ -74,6 +76,8 @@ def fingerprint(vm: VoteMatrix, opts: BuildOptions, version: str) -> str:
         h.update("\x1f".join(map(str, arr)).encode())
         h.update(b"\x1e")
     h.update(np.ascontiguousarray(vm.votes).tobytes())
+    if vm.scales is not None:  # scored ballots: their scales and answers
+        h.update(vm.scales.digest())
     h.update(json.dumps(opts.params(), sort_keys=True, default=str).encode())
     h.update(version.encode())
     return h.hexdigest()
@@ -81,6 +85,8 @@ def fingerprint(vm: VoteMatrix, opts: BuildOptions, version: str) -> str:
 
 def filter_period(vm: VoteMatrix, opts: AgreementOptions) -> VoteMatrix:
     """Drop unanimous/lopsided ballots, then members who cast too few of the rest."""
+    if vm.scales is not None:
+        return scored.filter_scored(vm, opts)
     keep_ballots = ballot_mask(vm.votes, opts) if vm.votes.size else np.zeros(0, bool)
     vm = vm.subset(ballots=keep_ballots)
     cast = (vm.votes != registry.MISSING).sum(axis=1)
@@ -90,8 +96,14 @@ def filter_period(vm: VoteMatrix, opts: AgreementOptions) -> VoteMatrix:
 
 
 def period_input(votes: np.ndarray, labels: np.ndarray, opts: BuildOptions, seed: int,
-                 weights: np.ndarray | None = None) -> PeriodInput:
-    """Agreement, graph and metric input for one (possibly reweighted) vote matrix."""
+                 weights: np.ndarray | None = None, scales=None) -> PeriodInput:
+    """Agreement, graph and metric input for one (possibly reweighted) vote matrix.
+
+    Scored ballots (``scales``) and the kappa measure go through
+    :func:`blocwatch.pipeline.scored.scored_period_input`; yes/no with ``match`` stays here.
+    """
+    if scales is not None or opts.agreement.measure != "match":
+        return scored.scored_period_input(votes, scales, labels, opts, seed, weights)
     same, both = agreement_counts(votes, weights=weights,
                                   abstain_as_position=opts.agreement.abstain_as_position)
     agreement = agreement_matrix(same, both, min_shared=opts.agreement.min_shared)
@@ -112,8 +124,8 @@ def _bootstrap(vm: VoteMatrix, labels: np.ndarray, opts: BuildOptions, seed: int
     cheap = [f.name for f in registry.FAMILIES.values() if not f.expensive]
     for r in range(opts.bootstrap):
         families = None if r < opts.expensive_replicates else cheap
-        values = compute_all(period_input(vm.votes, labels, opts, seed, weights=w[r]),
-                             families=families)
+        values = compute_all(period_input(vm.votes, labels, opts, seed, weights=w[r],
+                                          scales=vm.scales), families=families)
         samples[r] = [values[m].value if m in values and values[m].ok else np.nan
                       for m in names]
     return {m: percentile_interval(samples[:, j]) for j, m in enumerate(names)}
@@ -135,8 +147,7 @@ def _nulls(inp: PeriodInput, opts: BuildOptions, seed: int) -> dict[str, dict]:
 
 
 def _replace_labels(inp: PeriodInput, labels: np.ndarray) -> PeriodInput:
-    return PeriodInput(inp.agreement, inp.shared, labels, inp.weights, inp.edges, inp.votes,
-                       inp.seed)
+    return dataclasses.replace(inp, labels=labels)
 
 
 def compute_period(vm: VoteMatrix, opts: BuildOptions, version: str) -> PeriodResult:
@@ -145,7 +156,7 @@ def compute_period(vm: VoteMatrix, opts: BuildOptions, version: str) -> PeriodRe
     fp = fingerprint(vm, opts, version)
     vm = filter_period(vm, opts.agreement)
     labels = vm.labels
-    inp = period_input(vm.votes, labels, opts, seed)
+    inp = period_input(vm.votes, labels, opts, seed, scales=vm.scales)
     values = compute_all(inp)
     names = list(values)
     intervals = _bootstrap(vm, labels, opts, seed, names)

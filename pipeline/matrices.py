@@ -14,6 +14,7 @@ import pandas as pd
 
 from blocwatch.metrics.registry import ABSTAIN, MISSING, NO, YES
 from blocwatch.pipeline.periods import Period
+from blocwatch.pipeline.scored import attach_scales
 from blocwatch.pipeline.store import Store
 
 CHOICE_CODES = {"yes": YES, "no": NO, "abstain": ABSTAIN, "absent": MISSING}
@@ -30,6 +31,9 @@ class VoteMatrix:
     items: np.ndarray  # (b,) str agenda item or '' (for the block bootstrap)
     votes: np.ndarray  # (n, b) int8 codes
     dropped: int = 0  # members left out: no group, or (after filtering) too few votes
+    # Scales and scored answers (blocwatch.pipeline.scored.ScaleMatrix); None when every
+    # ballot of the period is yes/no.
+    scales: object = None
 
     @property
     def labels(self) -> np.ndarray:
@@ -44,9 +48,10 @@ class VoteMatrix:
                *, dropped: int = 0) -> VoteMatrix:
         m = slice(None) if members is None else members
         b = slice(None) if ballots is None else ballots
+        scales = None if self.scales is None else self.scales.subset(m, b)
         return VoteMatrix(self.body, self.period, self.member_ids[m], self.names[m],
                           self.groups[m], self.ballot_ids[b], self.items[b],
-                          self.votes[m][:, b], self.dropped + dropped)
+                          self.votes[m][:, b], self.dropped + dropped, scales)
 
 
 def ballot_date_range(store: Store, body: str) -> tuple | None:
@@ -76,7 +81,7 @@ def load_votes(store: Store, body: str, period: Period) -> VoteMatrix:
            SELECT * FROM counted""", params + [body])
     names = store.df("SELECT member_id, coalesce(name, member_id) AS name FROM members "
                      "WHERE body = ?", [body])
-    return _assemble(body, period, votes, groups, names)
+    return attach_scales(store, _assemble(body, period, votes, groups, names))
 
 
 def _assemble(body: str, period: Period, votes: pd.DataFrame, groups: pd.DataFrame,

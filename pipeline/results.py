@@ -100,7 +100,7 @@ def network_edges(store: Store, body: str, periods: list[str], *, options) -> pd
         vm = filter_period(load_votes(store, body, known[name]), options.agreement)
         if vm.votes.shape[0] < 2:
             continue
-        inp = period_input(vm.votes, vm.labels, options, options.seed)
+        inp = period_input(vm.votes, vm.labels, options, options.seed, scales=vm.scales)
         i, j = np.triu_indices(inp.n, k=1)
         a = inp.agreement[i, j]
         ok = ~np.isnan(a)
