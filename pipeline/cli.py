@@ -101,7 +101,8 @@ def _progress(ctx: click.Context, label: str):
 
 
 def build_options(period, rule, seed, bootstrap, permutations, expensive_replicates,
-                  abstain_as_position, min_shared, keep_unanimous, lopsided, min_share_cast):
+                  abstain_as_position, min_shared, keep_unanimous, lopsided, min_share_cast,
+                  agreement="match"):
     from blocwatch.pipeline.agreement import AgreementOptions
     from blocwatch.pipeline.compute import BuildOptions
     from blocwatch.pipeline.graphs import parse_rule
@@ -115,7 +116,8 @@ def build_options(period, rule, seed, bootstrap, permutations, expensive_replica
                                                    min_shared=min_shared,
                                                    drop_unanimous=not keep_unanimous,
                                                    lopsided=lopsided,
-                                                   min_share_cast=min_share_cast))
+                                                   min_share_cast=min_share_cast,
+                                                   measure=agreement))
 
 
 def build_flags(func):
@@ -162,6 +164,11 @@ def build_flags(func):
                      default=DEFAULT_MIN_SHARE_CAST, show_default=True,
                      help="Members casting less than this share of a period's ballots are left "
                           "out of it."),
+        click.option("--agreement", type=click.Choice(["match", "kappa", "kappa-quadratic"]),
+                     default="match", show_default=True,
+                     help="Pair agreement: match (share alike; 1 - scaled distance on scores) "
+                          "or chance-corrected kappa (graph weight max(kappa, 0); "
+                          "kappa-quadratic: quadratic weights on ordinal ballots)."),
     ]
     for flag in reversed(flags):
         func = flag(func)
