@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import html
 import math
 import re
 import unicodedata
@@ -44,6 +45,11 @@ class Chart:
     note: str = ""
     empty: bool = False  # nothing to draw: pages show ``note`` ("not computed: ...") instead
     extra: dict[str, pd.DataFrame] = field(default_factory=dict)  # more CSVs, e.g. "edges"
+
+    def __post_init__(self) -> None:
+        # The alt text travels inside the figure, so JSON specs carry it; escaped like every
+        # other string in a spec (plotly.js treats spec strings as HTML).
+        self.fig.update_layout(meta={"alt": html.escape(self.alt)})
 
 
 def plain(values) -> list:

@@ -95,12 +95,13 @@ def trend_chart(metrics: pd.DataFrame, metric: str, *, trends: pd.DataFrame | No
                             showlegend=False, hoverinfo="skip")
             fig.add_scatter(x=plain(g["x"]), y=plain(g["low"]), mode="lines", line=dict(width=0),
                             fill="tonexty", fillcolor=palette.with_alpha(colour, 0.18),
-                            name=esc(f"{body}: interval"), legendgroup=group, hoverinfo="skip")
+                            name=esc(f"{body}: interval"), legendgroup=group, hoverinfo="skip",
+                            showlegend=False)
         if g["null_mean"].notna().any():
             fig.add_scatter(x=plain(g["x"]), y=plain(g["null_mean"]), mode="lines",
                             line=dict(color=colour, width=1.2, dash="dot"),
-                            name=esc(f"{body}: shuffled-group expectation"), legendgroup=group,
-                            hoverinfo="skip")
+                            name=esc(f"{body}: shuffled-group mean"), legendgroup=group,
+                            hoverinfo="skip", showlegend=False)
         fig.add_scatter(x=plain(g["x"]), y=plain(g["value"]), mode="lines+markers", name=esc(body),
                         legendgroup=group, line=dict(color=colour, width=2.4),
                         marker=dict(size=6, color=colour), connectgaps=False,
@@ -109,10 +110,12 @@ def trend_chart(metrics: pd.DataFrame, metric: str, *, trends: pd.DataFrame | No
         if len(cp):
             fig.add_scatter(x=plain(cp["x"]), y=plain(cp["value"]), mode="markers",
                             name=esc(f"{body}: change point"), legendgroup=group,
+                            showlegend=False,
                             marker=dict(symbol="diamond-open", size=15, color=colour,
                                         line=dict(width=2.4)),
                             customdata=_customdata(cp, metric),
                             hovertemplate="change point · " + _hover(info.label))
+    _add_key(fig, data)
     dated = is_dated(period_table(metrics))
     empty = data["value"].notna().sum() == 0
     fig.update_layout(
@@ -125,6 +128,29 @@ def trend_chart(metrics: pd.DataFrame, metric: str, *, trends: pd.DataFrame | No
     return Chart(name=f"{name_prefix}-{metric}", title=info.label, fig=fig,
                  alt=_alt(data, info.label, metric), data=data,
                  note=_empty_note(metrics, metric) if empty else "", empty=empty)
+
+
+KEY_GREY = "#6E6E6E"
+
+
+def _add_key(fig: go.Figure, data: pd.DataFrame) -> None:
+    """Legend entries explaining band, dotted line and diamonds once, in grey, for all bodies.
+
+    The per-body helper traces stay out of the legend, which keeps it short with many bodies.
+    """
+    keys = []
+    if data["low"].notna().any():
+        keys.append(("interval (band)", dict(mode="lines", line=dict(
+            color=palette.with_alpha(KEY_GREY, 0.3), width=10))))
+    if data["null_mean"].notna().any():
+        keys.append(("shuffled-group mean (dotted)", dict(mode="lines", line=dict(
+            color=KEY_GREY, width=1.2, dash="dot"))))
+    if data["change_point"].any():
+        keys.append(("change point (diamond)", dict(mode="markers", marker=dict(
+            symbol="diamond-open", size=12, color=KEY_GREY, line=dict(width=2)))))
+    for name, style in keys:
+        fig.add_scatter(x=[None], y=[None], name=name, legendgroup="key", hoverinfo="skip",
+                        **style)
 
 
 def _empty_note(metrics: pd.DataFrame, metric: str) -> str:

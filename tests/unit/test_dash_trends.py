@@ -1,5 +1,6 @@
 """Trend figures, checked by structure (fig.to_dict()), never by HTML bytes."""
 
+import html
 import json
 
 import numpy as np
@@ -48,6 +49,11 @@ def test_interval_band_null_line_and_change_point_markers():
     assert np.allclose(harbour_cp["y"], want)
     assert chart.data["change_point"].sum() == 2
     assert "Change points are marked at" in chart.alt
+    # Legend: one entry per body plus one grey key per kind of helper, not one per body each.
+    shown = [tr["name"] for tr in _traces(chart) if tr.get("showlegend", True)]
+    assert shown == [HARBOUR, TARN, "interval (band)", "shuffled-group mean (dotted)",
+                     "change point (diamond)"]
+    assert chart.fig.layout.meta["alt"] == html.escape(chart.alt)  # alt travels with the spec
 
 
 def test_missing_value_is_a_gap_not_a_made_up_number():
