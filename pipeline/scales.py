@@ -22,7 +22,8 @@ rows of a scored ballot keep the clerk's text in ``raw``; ``choice`` holds the c
 ``score`` holds the option's index or the number.
 
 How distance follows from the kind, and how a body mixing kinds combines them, is in
-:mod:`blocwatch.pipeline.scored`.
+:mod:`blocwatch.pipeline.scored`; how a load resolves and checks scales, in
+:mod:`blocwatch.pipeline.scale_load`.
 """
 
 from __future__ import annotations
@@ -36,7 +37,7 @@ from dataclasses import dataclass
 import pandas as pd
 
 from blocwatch.pipeline.codes import choice_of, normalise
-from blocwatch.pipeline.errors import BadInputError, UsageError
+from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.safety import show
 
 KINDS = ("binary", "categorical", "ordinal", "continuous")
@@ -81,6 +82,20 @@ class Scale:
 
 
 BINARY = Scale()
+
+
+def scale_from_store(kind: object, low: object = None, high: object = None,
+                     options: object = None) -> Scale:
+    """The :class:`Scale` of a ``ballots`` row (options as a JSON list).
+
+    >>> scale_from_store("categorical", None, None, '["a", "b"]').spec
+    'categorical:a|b'
+    """
+    def num(v):
+        return None if _blank(v) else float(v)
+
+    opts = tuple(json.loads(options)) if isinstance(options, str) and options else ()
+    return Scale(str(kind or "binary"), num(low), num(high), opts)
 
 
 def _bad(where: str, why: str) -> UsageError:
@@ -162,30 +177,6 @@ def scale_from_cells(scale: object, low: object = None, high: object = None,
     return parse_scale(text, where=where)
 
 
-def scales_by_ballot(frame: pd.DataFrame, *, default: Scale = BINARY,
-                     where: str = "input") -> dict[str, Scale]:
-    """Each ballot's scale from the optional columns of a staged frame (one or many rows per
-    ballot); ballots without a declaration get ``default``. A ballot declared two ways is an
-    error naming both."""
-    cols = [c for c in ("scale", "scale_min", "scale_max", "options") if c in frame.columns]
-    ids = frame["ballot_id"].astype(str)
-    if not cols:
-        return {b: default for b in pd.unique(ids)}
-    distinct = frame.assign(ballot_id=ids)[["ballot_id", *cols]].drop_duplicates()
-    out: dict[str, Scale] = {}
-    for row in distinct.itertuples(index=False):  # one row per ballot × distinct declaration
-        cells = row._asdict()
-        scale = scale_from_cells(cells.get("scale"), cells.get("scale_min"),
-                                 cells.get("scale_max"), cells.get("options"),
-                                 where=f"{where}, ballot {show(row.ballot_id)}") or default
-        seen = out.setdefault(row.ballot_id, scale)
-        if seen != scale:
-            raise BadInputError(f"{where}, ballot {show(row.ballot_id)}",
-                                f"is declared both {show(seen.spec)} and {show(scale.spec)}",
-                                "give every row of a ballot the same scale")
-    return out
-
-
 def number_text(value: float) -> str:
     """A number as ``votes.choice`` holds it: integers without a decimal point, others exact.
 
@@ -193,13 +184,6 @@ def number_text(value: float) -> str:
     ('7', '2.5', '1234567')
     """
     return str(int(value)) if float(value).is_integer() and abs(value) < 2**53 else repr(value)
-
-
-@dataclass(frozen=True)
-class BadAnswer:
-    ballot_id: str
-    raw: object
-    why: str
 
 
 def read_answer(raw: object, scale: Scale, mapping: Mapping[str, str] | None = None
@@ -240,35 +224,3 @@ def read_answer(raw: object, scale: Scale, mapping: Mapping[str, str] | None = N
     if scale.kind == "categorical":
         return f"{show(raw)} is not one of the options {show('|'.join(scale.options))}"
     return f"{show(raw)} is not a number (nor abstain/absent)"
-
-
-def read_answers(pairs: pd.DataFrame, scales: Mapping[str, Scale],
-                 mapping: Mapping[str, str] | None = None
-                 ) -> tuple[pd.DataFrame, list[BadAnswer]]:
-    """Interpret the distinct ``(ballot_id, raw)`` answers of scored ballots.
-
-    Returns ``(ballot_id, raw, choice, score)`` rows for every pair on a scored ballot (binary
-    ballots are left to the vote codes) and the refused answers. Call it on the *distinct*
-    pairs and join back: a panel has few distinct answers however many rows it has.
-    """
-    rows, bad = [], []
-    for b, raw in pairs[["ballot_id", "raw"]].itertuples(index=False):
-        scale = scales.get(str(b), BINARY)
-        if not scale.scored:
-            continue
-        got = read_answer(raw, scale, mapping)
-        if isinstance(got, str):
-            bad.append(BadAnswer(str(b), raw, got))
-        else:
-            rows.append((str(b), raw, got[0], got[1]))
-    frame = pd.DataFrame(rows, columns=["ballot_id", "raw", "choice", "score"])
-    return frame.astype({"score": "float64"}), bad
-
-
-def answers_error(bad: list[BadAnswer], *, where: str = "input") -> BadInputError:
-    """One error for refused answers: the first few, counted, with what to do."""
-    first = bad[0]
-    more = f" (and {len(bad) - 1} more answer(s) like it)" if len(bad) > 1 else ""
-    return BadInputError(f"{where}, ballot {show(first.ballot_id)}", first.why + more,
-                         "correct the answers, or the ballot's declared scale (--scale, or "
-                         "the scale/scale_min/scale_max/options columns)")
