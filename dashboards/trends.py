@@ -120,7 +120,7 @@ def trend_chart(metrics: pd.DataFrame, metric: str, *, trends: pd.DataFrame | No
     empty = data["value"].notna().sum() == 0
     fig.update_layout(
         template=palette.template(), title=dict(text=esc(info.label)),
-        xaxis=dict(title=dict(text="Period (middle)" if dated else "Period"),
+        xaxis=dict(title=dict(text="Period (midpoint)" if dated else "Period"),
                    type="date" if dated else "category"),
         yaxis=dict(title=dict(text=esc(info.label)), dtick=1 if info.integer else None),
         showlegend=True, height=400,

@@ -21,7 +21,7 @@ def test_one_line_per_body_with_axis_titles():
     d = chart.fig.to_dict()
     lines = [tr for tr in d["data"] if tr["mode"] == "lines+markers"]
     assert [tr["name"] for tr in lines] == [HARBOUR, TARN]
-    assert d["layout"]["xaxis"]["title"]["text"] == "Period (middle)"
+    assert d["layout"]["xaxis"]["title"]["text"] == "Period (midpoint)"
     assert d["layout"]["yaxis"]["title"]["text"] == "Separability"
     # Each line has one point per period of its body, values as in the frame.
     for tr in lines:
