@@ -17,9 +17,9 @@ def reduce_votes(store: Store, staged, k: int, problems: Problems) -> str:
     """``_bw_v{k}``: the file's votes, one row per key; contradicting duplicates are problems."""
     table = f"_bw_v{k}"
     store.stage(table, f"""
-        SELECT t.body, t.ballot_id, t.member_id, arg_min(t.raw, t.rowid) AS raw,
+        SELECT t.body, t.ballot_id, t.member_id, arg_min(t.raw, t.rid) AS raw,
                min(c.choice) AS choice, count(DISTINCT c.choice) AS n_choices,
-               min(t.rowid) AS rid, CAST({k} AS INTEGER) AS k
+               min(t.rid) AS rid, CAST({k} AS INTEGER) AS k
         FROM {staged.table} t JOIN _bw_codes c ON c.raw = coalesce(t.raw, '')
         WHERE t.body IS NOT NULL AND t.ballot_id IS NOT NULL AND t.member_id IS NOT NULL
         GROUP BY t.body, t.ballot_id, t.member_id""")
@@ -28,8 +28,8 @@ def reduce_votes(store: Store, staged, k: int, problems: Problems) -> str:
         examples = store.rows(f"SELECT body, ballot_id, member_id FROM {table} "
                               f"WHERE n_choices > 1 ORDER BY rid LIMIT {EXAMPLES}")
         for body, ballot, member in examples:
-            hits = store.rows(f"SELECT rowid, raw FROM {staged.table} WHERE body = ? AND "
-                              "ballot_id = ? AND member_id = ? ORDER BY rowid LIMIT 2",
+            hits = store.rows(f"SELECT rid, raw FROM {staged.table} WHERE body = ? AND "
+                              "ballot_id = ? AND member_id = ? ORDER BY rid LIMIT 2",
                               [body, ballot, member])
             (r1, v1), (r2, v2) = hits[0], hits[-1]
             first = staged.place(r1, "raw")
@@ -50,19 +50,20 @@ def reduce_ballots(store: Store, staged, k: int, problems: Problems) -> str:
     table = f"_bw_b{k}"
     store.stage(table, f"""
         SELECT body, ballot_id, held_on, TRY_CAST(held_on AS DATE) AS day, title, item,
-               min(rowid) AS rid, count(*) AS n, CAST({k} AS INTEGER) AS k
+               min(rid) AS rid, count(*) AS n, CAST({k} AS INTEGER) AS k
         FROM {staged.table} WHERE body IS NOT NULL AND ballot_id IS NOT NULL
         GROUP BY body, ballot_id, held_on, title, item""")
-    for col, word in (("held_on", "dates"), ("title", "titles"), ("item", "agenda items")):
+    # Dates compare as dates (2020-2-3 = 2020-02-03); unparseable ones were reported already.
+    for col, key, word in (("held_on", "day", "dates"), ("title", "title", "titles"),
+                           ("item", "item", "agenda items")):
         rows = store.rows(f"""
-            SELECT ballot_id, list({col} ORDER BY rid) FILTER (WHERE {col} IS NOT NULL),
-                   list(rid ORDER BY rid) FILTER (WHERE {col} IS NOT NULL) FROM {table}
-            GROUP BY body, ballot_id HAVING count(DISTINCT {col}) > 1
+            SELECT ballot_id, list({col} ORDER BY rid) FILTER (WHERE {key} IS NOT NULL),
+                   list({key} ORDER BY rid) FILTER (WHERE {key} IS NOT NULL),
+                   list(rid ORDER BY rid) FILTER (WHERE {key} IS NOT NULL) FROM {table}
+            GROUP BY body, ballot_id HAVING count(DISTINCT {key}) > 1
             ORDER BY min(rid) LIMIT {EXAMPLES}""")
-        for ballot, values, rids in rows:
-            later = next((i for i, v in enumerate(values) if v != values[0]), None)
-            if later is None:
-                continue
+        for ballot, values, keys, rids in rows:
+            later = next(i for i, v in enumerate(keys) if v != keys[0])
             first = staged.place(rids[0], col)
             at = f"line {first[0]}" if first[0] else first[1]
             add_row_problem(problems, staged, "ballot", rids[later], col, values[later],

@@ -206,6 +206,7 @@ class _Load:
         self.results: list[FileResult] = []
         self.staged: dict[int, Staged] = {}
         self.notes: list[str] = []
+        self.bad_members: set[str] = set()  # roster rows refused: no follow-up complaints
 
     # -- stage every file ---------------------------------------------------------------------
     def run(self, inputs) -> IngestReport:
@@ -290,8 +291,8 @@ class _Load:
     def _codes(self, votes: dict[int, Staged]) -> None:
         table: dict[object, str] = {"": "absent"}
         for s in votes.values():
-            rows = self.store.rows(f"SELECT raw, count(*), min(rowid) FROM {s.table} GROUP BY raw "
-                                   "ORDER BY min(rowid) LIMIT 100001")
+            rows = self.store.rows(f"SELECT raw, count(*), min(rid) FROM {s.table} GROUP BY raw "
+                                   "ORDER BY min(rid) LIMIT 100001")
             known, unknown = vote_codes.resolve([r[0] for r in rows], self.mapping)
             table.update({k: v for k, v in known.items() if k is not None})
             info = {r[0]: r for r in rows}
@@ -310,22 +311,20 @@ class _Load:
         rosters = self._of("roster")
         bodies = sorted({b for k in self.staged for b in self.results[k].bodies})
         stored = roster.stored_spells(store, bodies)
-        new_roster = pd.concat([roster.roster_spells(store, s, problems) for s in
-                                rosters.values()]) if rosters else None
+        new_roster = pd.concat([roster.roster_spells(store, s, problems, self.bad_members)
+                                .assign(k=k) for k, s in rosters.items()]) if rosters else None
         grouped = {k: s for k, s in votes.items() if "group_name" in s.headers}
         obs = self._observations(grouped, bal) if grouped else None
-        source = next(iter(rosters.values())).name if rosters else \
-            (next(iter(grouped.values())).name if grouped else "")
         if new_roster is not None:
             if obs:
                 self._roster_agrees(obs, new_roster, grouped)
             merged = roster.merge(stored, new_roster, replace="all" if self.replace else None,
-                                  source=source, problems=problems)
+                                  staged_by_k=self.staged, problems=problems)
             affected = new_roster[["body", "member_id"]].drop_duplicates()
         elif obs:
             derived = roster.derived_spells(store, obs)
             merged = roster.merge(stored, derived, replace="clip" if self.replace else None,
-                                  source=source, problems=problems)
+                                  staged_by_k=self.staged, problems=problems)
             affected = derived[["body", "member_id"]].drop_duplicates()
         else:
             merged = pd.DataFrame(columns=roster.SPELL_COLUMNS)
@@ -335,7 +334,7 @@ class _Load:
         return merged, affected
 
     def _observations(self, grouped: dict[int, Staged], bal: str) -> str | None:
-        parts = [f"""SELECT t.body, t.member_id, b.held_on, t.group_name, min(t.rowid) AS rid,
+        parts = [f"""SELECT t.body, t.member_id, b.held_on, t.group_name, min(t.rid) AS rid,
                             CAST({k} AS INTEGER) AS k FROM {s.table} t JOIN {bal} b
                      ON b.body = t.body AND b.ballot_id = t.ballot_id
                      WHERE t.group_name IS NOT NULL AND t.member_id IS NOT NULL
@@ -386,7 +385,8 @@ class _Load:
             SELECT n.k, min(n.rid), n.member_id, count(*) FROM {combined} n
             WHERE n.body IN (SELECT DISTINCT body FROM _bw_spells) AND NOT EXISTS (SELECT 1 FROM
               _bw_spells s WHERE s.body = n.body AND s.member_id = n.member_id)
-            GROUP BY n.k, n.member_id ORDER BY n.k, min(n.rid)""")
+              AND NOT list_contains(?, n.member_id)
+            GROUP BY n.k, n.member_id ORDER BY n.k, min(n.rid)""", [sorted(self.bad_members)])
         for k, rid, member, n in missing[:EXAMPLES * 4]:
             add_row_problem(self.problems, self.staged[k], "member", rid, "member_id", member,
                             f"member {show(member)} is not in the roster (no group known)",
@@ -395,20 +395,21 @@ class _Load:
         uncovered = self.store.rows(f"""
             SELECT n.k, n.rid, n.member_id, b.held_on FROM {combined} n JOIN {bal} b
             ON b.body = n.body AND b.ballot_id = n.ballot_id
-            WHERE n.choice <> 'absent' AND EXISTS (SELECT 1 FROM _bw_spells s WHERE
+            WHERE n.choice <> 'absent' AND b.held_on IS NOT NULL
+              AND NOT list_contains(?, n.member_id) AND EXISTS (SELECT 1 FROM _bw_spells s WHERE
               s.body = n.body AND s.member_id = n.member_id) AND NOT EXISTS (SELECT 1 FROM
               _bw_spells s WHERE s.body = n.body AND s.member_id = n.member_id AND
               b.held_on BETWEEN CAST(s.valid_from AS DATE) AND CAST(s.valid_to AS DATE))
-            ORDER BY n.k, n.rid LIMIT {EXAMPLES}""")
+            ORDER BY n.k, n.rid LIMIT {EXAMPLES}""", [sorted(self.bad_members)])
         for k, rid, member, day in uncovered:
             add_row_problem(self.problems, self.staged[k], "member", rid, "member_id", member,
                             f"member {show(member)} votes on {day} but has no group on that "
                             "date", "extend the member's valid_from/valid_to in the roster")
 
     def _members(self, votes: dict[int, Staged]) -> str | None:
-        parts = [f"SELECT body, member_id, name, rowid AS rid, 0 AS src FROM {s.table} "
+        parts = [f"SELECT body, member_id, name, rid, 0 AS src FROM {s.table} "
                  "WHERE member_id IS NOT NULL" for s in votes.values()]
-        parts += [f"SELECT body, member_id, name, rowid AS rid, 1 AS src FROM {s.table} "
+        parts += [f"SELECT body, member_id, name, rid, 1 AS src FROM {s.table} "
                   "WHERE member_id IS NOT NULL" for s in self._of("roster").values()]
         if not parts:
             return None

@@ -3,7 +3,7 @@
 Every format and layout ends in the same shape: text columns named as the store names them
 (``body, ballot_id, held_on, member_id, raw, group_name, name, title, item`` for votes;
 ``member_id, name, group_name, valid_from, valid_to`` for a roster; ``ballot_id, held_on,
-title, item`` for a ballots file), values trimmed, blanks as NULL, in file order (``rowid``).
+title, item`` for a ballots file), values trimmed, blanks as NULL, in file order (``rid`` = 0, 1, …).
 
 Long files (one row per member per ballot) are read by DuckDB straight from disk — CSV,
 Parquet, JSON lines — so they stream; ``.xlsx`` and the wide layout go through
@@ -123,6 +123,7 @@ def resolve_columns(names: list[str], kind: str, overrides: dict[str, str], *, f
     required, optional, extra = KINDS[kind]
     folded = [n.strip().casefold() for n in names]
     found: dict[str, int] = {}
+    missing: list[str] = []
     ok = True
     for opt in required + optional:
         want = overrides.get(opt)
@@ -148,16 +149,32 @@ def resolve_columns(names: list[str], kind: str, overrides: dict[str, str], *, f
         elif hits:
             found[opt] = hits[0]
         elif opt in required:
-            hint = ""
-            if len(names) == 1:
-                hint = (" — the header has a single column, so the delimiter is probably not "
-                        "one of , ; tab |")
-            problems.add(Problem("header", file, f"has no {opt} column (looked for "
-                                 f"{', '.join(aliases)}); its columns are {_list(names)}{hint}",
-                                 f"rename the column, or pass --column {opt}=HEADER; separate "
-                                 "columns with commas", line=1, value=names))
-            ok = False
+            missing.append(opt)
+    if missing:
+        accepted = "; ".join(f"{opt}: {', '.join(FIELDS[opt][1] + extra.get(opt, ()))}"
+                             for opt in missing)
+        if len(names) == 1:
+            problems.add(Problem("header", file, f"has a single column {show(names[0], 40)}, so "
+                                 f"its delimiter is not one of , ; tab |{_guess(names[0])}",
+                                 "save the file as CSV with commas between the columns",
+                                 line=1, value=names[0]))
+        else:
+            problems.add(Problem("header", file, f"has no {' or '.join(missing)} column; its "
+                                 f"columns are {_list(names)} (accepted names — {accepted})",
+                                 f"rename the column, or pass --column {missing[0]}=HEADER",
+                                 line=1, value=names))
+        ok = False
     return found if ok else None
+
+
+def _guess(header: str) -> str:
+    """' (it looks like ':')' when one punctuation character clearly splits the header."""
+    counts = {c: header.count(c) for c in set(header) if not c.isalnum() and c not in "_ -\"'"}
+    if counts:
+        best = max(counts, key=counts.get)
+        if counts[best] >= 2:
+            return f" (it looks like {show(best)})"
+    return ""
 
 
 def _list(names: list[str]) -> str:
@@ -249,9 +266,9 @@ def _stage_csv(store: Store, path: Path, kind: str, table: str, body: str | None
            f"max_line_size=$max_line, store_rejects=true, rejects_table='{rej}', "
            f"rejects_scan='{rejscan}')")
     try:
-        rows = store.stage(table, sql, params)
+        rows = store.stage_rows(table, sql, params)
     except ReadError as exc:
-        problems.add(Problem("file", name, f"cannot be read as CSV ({exc.why})",
+        problems.add(Problem("file", name, f"cannot be read as CSV ({exc.reason})",
                              "check the delimiter, quoting and encoding (UTF-8)"))
         return None
     rejected = _rejects(store, path, name, rej, header.names, problems)
@@ -320,9 +337,27 @@ def _rejects(store: Store, path: Path, name: str, rej: str, names: list[str],
             continue
         column = names[col - 1] if etype.startswith("INVALID") and col and col <= len(names) \
             else None
+        if kind == "encoding":  # show the bytes as they are, not DuckDB's replacement marks
+            csv_line = _raw_line(path, pos)
+        elif kind == "quote" and csv_line.count('"') % 2:
+            why = "opens a quoted value that is never closed"
+            fix = "close the quote, or double a quote that is part of the value (\"\")"
+            csv_line = csv_line.split("\n", 1)[0]
         problems.add(Problem(kind, name, f"{why}: {show(csv_line, 50)}", fix,
                              line=lines[pos], column=column, value=csv_line))
     return sorted(lines.values())
+
+
+def _raw_line(path: Path, pos: int) -> str:
+    """The line starting at byte ``pos``, undecodable bytes shown as ``\\xNN``."""
+    with open(path, "rb") as fh:  # DuckDB's position may fall inside the line
+        start = max(0, pos - 400)
+        fh.seek(start)
+        window = fh.read(800)
+    cut = pos - start
+    head = window[:cut].rfind(b"\n") + 1
+    raw = window[head:].split(b"\n", 1)[0].rstrip(b"\r")
+    return raw.decode("utf-8", "backslashreplace")
 
 
 def _bump(p: Problem) -> Problem:
@@ -337,7 +372,7 @@ def _stage_parquet(store: Store, path: Path, kind: str, table: str, body: str | 
         desc = store.probe("SELECT column_name, column_type FROM (DESCRIBE SELECT * FROM "
                            "read_parquet($path))", {"path": str(path)})
     except ReadError as exc:
-        problems.add(Problem("file", name, f"cannot be read as Parquet ({exc.why})",
+        problems.add(Problem("file", name, f"cannot be read as Parquet ({exc.reason})",
                              "check that the file is a complete Parquet file"))
         return None
     names, types = [d[0] for d in desc], [d[1] for d in desc]
@@ -365,9 +400,9 @@ def _stage_parquet(store: Store, path: Path, kind: str, table: str, body: str | 
     select, params, headers = _select(cols, names, kind, body, expr)
     params["path"] = str(path)
     try:
-        rows = store.stage(table, f"SELECT {select} FROM read_parquet($path)", params)
+        rows = store.stage_rows(table, f"SELECT {select} FROM read_parquet($path)", params)
     except ReadError as exc:
-        problems.add(Problem("file", name, f"cannot be read as Parquet ({exc.why})",
+        problems.add(Problem("file", name, f"cannot be read as Parquet ({exc.reason})",
                              "check that the file is a complete Parquet file"))
         return None
     staged = Staged(path, name, kind, "parquet", "long", table, headers, rows, scan_info.sha256)
@@ -394,17 +429,18 @@ def _stage_json(store: Store, path: Path, kind: str, table: str, body: str | Non
     raw = f"{table}_json"
     args["columns"] = {names[i]: "JSON" for i in sorted(set(cols.values()))}
     try:
-        store.stage(raw, "SELECT * FROM read_json($path, format='newline_delimited', "
+        store.stage_rows(raw, "SELECT * FROM read_json($path, format='newline_delimited', "
                          "records=true, columns=$columns)", args)
     except ReadError:
         _broken_json(path, name, problems)
         return None
     order = sorted(set(cols.values()))
-    position = {i: k + 1 for k, i in enumerate(order)}  # file column -> column of the raw table
+    # file column -> position in the raw view, whose first column is rid
+    position = {i: k + 2 for k, i in enumerate(order)}
     staged = Staged(path, name, kind, "jsonl", "long", table, {}, 0, scan_info.sha256)
     staged.placer = lambda rid, col: (sniff.json_lines(path, [rid]).get(rid), None, None)
     for opt, i in cols.items():
-        n, rid = store.rows(f"SELECT count(*), min(rowid) FROM {raw} WHERE "
+        n, rid = store.rows(f"SELECT count(*), min(rid) FROM {raw} WHERE "
                             f"json_type(#{position[i]}) IN ('OBJECT', 'ARRAY')")[0]
         if n:
             problems.add(Problem("type", name, "holds a nested object or list; blocwatch reads "
@@ -416,7 +452,8 @@ def _stage_json(store: Store, path: Path, kind: str, table: str, body: str | Non
     select, params, headers = _select(
         cols, names, kind, body,
         lambda i: f"NULLIF(trim(json_extract_string(#{position[i]}, '$')), '')")
-    staged.rows = store.stage(table, f"SELECT {select} FROM {raw}", params)
+    staged.rows = store.stage_rows(table, f"SELECT {select} FROM {raw} ORDER BY rid",
+                                    params)
     staged.headers = headers
     return staged
 

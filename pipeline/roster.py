@@ -24,22 +24,26 @@ SPELL_COLUMNS = ["body", "member_id", "group_name", "valid_from", "valid_to"]
 _OPEN_FROM, _OPEN_TO = date.fromisoformat(OPEN_FROM), date.fromisoformat(OPEN_TO)
 
 
-def roster_spells(store: Store, staged, problems: Problems) -> pd.DataFrame:
-    """Valid spells of a staged roster (with ``rid``); bad rows become problems."""
+def roster_spells(store: Store, staged, problems: Problems, refused: set) -> pd.DataFrame:
+    """Valid spells of a staged roster (with ``rid``); bad rows become problems and their
+    members are added to ``refused``."""
     frame = store.df(
-        f"""SELECT rowid AS rid, body, member_id, name, group_name,
+        f"""SELECT rid, body, member_id, name, group_name,
                    TRY_CAST(valid_from AS DATE) AS valid_from, TRY_CAST(valid_to AS DATE) AS
                    valid_to, valid_from IS NOT NULL AND TRY_CAST(valid_from AS DATE) IS NULL OR
                    valid_to IS NOT NULL AND TRY_CAST(valid_to AS DATE) IS NULL AS bad_date
             FROM {staged.table}
-            WHERE member_id IS NOT NULL AND group_name IS NOT NULL AND body IS NOT NULL
-            ORDER BY rowid""")
-    frame = frame[~frame["bad_date"].astype(bool)].drop(columns="bad_date")
+            ORDER BY rid""")
+    bad = frame["bad_date"].astype(bool) | frame["member_id"].isna() | frame["group_name"].isna() \
+        | frame["body"].isna()
+    refused.update(frame.loc[bad, "member_id"].dropna())
+    frame = frame[~bad].drop(columns="bad_date")
     frame["valid_from"] = [d if isinstance(d, date) else _OPEN_FROM for d in
                            _as_dates(frame["valid_from"])]
     frame["valid_to"] = [d if isinstance(d, date) else _OPEN_TO for d in
                          _as_dates(frame["valid_to"])]
     backwards = frame["valid_to"] < frame["valid_from"]
+    refused.update(frame.loc[backwards, "member_id"])
     for row in frame[backwards].head(20).itertuples():
         add_row_problem(problems, staged, "roster", row.rid, "valid_to", row.valid_to,
                         f"valid_to {row.valid_to} is before valid_from {row.valid_from}",
@@ -78,33 +82,35 @@ def find_overlaps(spells: pd.DataFrame) -> list[tuple]:
     """Index pairs (earlier, later) of spells of one member in different groups that overlap."""
     pairs = []
     ordered = spells.sort_values(["body", "member_id", "valid_from", "valid_to"])
-    for _, group in ordered.groupby(["body", "member_id"], sort=False):
-        if len(group) < 2:
-            continue
-        active: list = []  # (end, index, group) of spells that may still overlap
-        for idx, row in group.iterrows():
-            active = [a for a in active if a[0] >= row.valid_from]
-            for end, j, g in active:
-                if g != row.group_name:
-                    pairs.append((j, idx))
-                    break
-            active.append((row.valid_to, idx, row.group_name))
+    key = None
+    active: list = []  # (end, index, group) of earlier spells of this member
+    for idx, body, member, group, start, end in zip(
+            ordered.index, ordered["body"], ordered["member_id"], ordered["group_name"],
+            ordered["valid_from"], ordered["valid_to"]):
+        if (body, member) != key:
+            key, active = (body, member), []
+        active = [a for a in active if a[0] >= start]
+        for _, j, g in active:
+            if g != group:
+                pairs.append((j, idx))
+                break
+        active.append((end, idx, group))
     return pairs
 
 
 def coalesce(spells: pd.DataFrame) -> pd.DataFrame:
     """Join spells of the same member and group that overlap or touch (end + 1 day = start)."""
-    out = []
+    out: list[list] = []
     ordered = spells.sort_values(["body", "member_id", "valid_from", "valid_to"])
-    for (body, member), group in ordered.groupby(["body", "member_id"], sort=False):
-        current: list = []
-        for row in group.itertuples():
-            if current and current[-1][0] == row.group_name and \
-                    row.valid_from <= _next_day(current[-1][2]):
-                current[-1][2] = max(current[-1][2], row.valid_to)
-            else:
-                current.append([row.group_name, row.valid_from, row.valid_to])
-        out.extend([body, member, g, f, t] for g, f, t in current)
+    for body, member, group, start, end in zip(
+            ordered["body"], ordered["member_id"], ordered["group_name"],
+            ordered["valid_from"], ordered["valid_to"]):
+        last = out[-1] if out else None
+        if last and last[0] == body and last[1] == member and last[2] == group and \
+                start <= _next_day(last[4]):
+            last[4] = max(last[4], end)
+        else:
+            out.append([body, member, group, start, end])
     return pd.DataFrame(out, columns=SPELL_COLUMNS)
 
 
@@ -116,50 +122,63 @@ def derived_spells(store: Store, obs_table: str) -> pd.DataFrame:
     """Spells from ``obs_table`` (body, member_id, held_on DATE, group_name), one row per
     member, date and group: runs of the same group, each ending the day before the next."""
     return store.df(
-        f"""WITH o AS (SELECT body, member_id, held_on, group_name,
+        f"""WITH o AS (SELECT body, member_id, held_on, group_name, rid, k,
                    CASE WHEN group_name IS DISTINCT FROM lag(group_name) OVER w THEN 1 ELSE 0
                    END AS change FROM {obs_table} WINDOW w AS (PARTITION BY body, member_id
                    ORDER BY held_on)),
                  r AS (SELECT *, sum(change) OVER (PARTITION BY body, member_id ORDER BY held_on
                    ROWS UNBOUNDED PRECEDING) AS run FROM o),
                  s AS (SELECT body, member_id, group_name, min(held_on) AS valid_from,
-                   max(held_on) AS last_seen FROM r GROUP BY body, member_id, group_name, run)
-            SELECT body, member_id, group_name, valid_from,
+                   max(held_on) AS last_seen, arg_min(rid, held_on) AS first_rid,
+                   arg_min(k, held_on) AS first_k FROM r GROUP BY body, member_id, group_name,
+                   run)
+            SELECT body, member_id, group_name, valid_from, first_rid AS rid, first_k AS k,
                    coalesce(CAST(lead(valid_from) OVER (PARTITION BY body, member_id ORDER BY
                    valid_from) - INTERVAL 1 DAY AS DATE), last_seen) AS valid_to
-            FROM s ORDER BY body, member_id, valid_from""")
+            FROM s ORDER BY body, member_id, valid_from""").pipe(_with_dates)
 
 
-def merge(stored: pd.DataFrame, new: pd.DataFrame, *, replace: str | None, source: str,
-          problems: Problems) -> pd.DataFrame:
+def _with_dates(frame: pd.DataFrame) -> pd.DataFrame:
+    """``valid_from`` / ``valid_to`` as ``datetime.date`` (DuckDB hands back Timestamps)."""
+    frame = frame.copy()
+    for col in ("valid_from", "valid_to"):
+        frame[col] = pd.Series(_as_dates(frame[col]), index=frame.index, dtype=object)
+    return frame
+
+
+def merge(stored: pd.DataFrame, new: pd.DataFrame, *, replace: str | None,
+          staged_by_k: dict, problems: Problems) -> pd.DataFrame:
     """Spells of the members in ``new`` after adding them to the ``stored`` ones.
 
     ``replace``: ``None`` keeps stored spells and reports overlaps in another group as
     conflicts; ``"all"`` drops the members' stored spells (a roster is the full list);
     ``"clip"`` cuts stored spells where new ones cover the dates (a votes file covers a stretch).
+    ``new`` carries ``k`` and ``rid``: the staged file and row each spell comes from.
     """
     if new.empty:
         return new.reindex(columns=SPELL_COLUMNS)
-    new = new[SPELL_COLUMNS].copy()
+    new = _with_dates(new[SPELL_COLUMNS + ["k", "rid"]])
+    stored = _with_dates(stored[SPELL_COLUMNS])
     keys = new[["body", "member_id"]].drop_duplicates()
     old = stored.merge(keys, on=["body", "member_id"])[SPELL_COLUMNS]
     if replace == "all":
         old = old.iloc[0:0]
     elif replace == "clip":
         old = _clip(old, new)
-    both = pd.concat([old.assign(_src="stored"), new.assign(_src="new")], ignore_index=True)
+    both = pd.concat([old.assign(_src="stored", k=-1, rid=-1), new.assign(_src="new")],
+                     ignore_index=True)
     for a, b in find_overlaps(both)[:50]:
         ra, rb = both.loc[a], both.loc[b]
         if ra._src == rb._src:
             continue  # within one source: reported by its own checks
         s, n = (ra, rb) if ra._src == "stored" else (rb, ra)
-        problems.add(Problem("conflict", source, f"puts member {show(n.member_id)} in group "
-                             f"{show(n.group_name)} from {n.valid_from} to {n.valid_to}, but the "
-                             f"store has them in {show(s.group_name)} from {s.valid_from} to "
-                             f"{s.valid_to}", "pass --replace to overwrite the stored "
-                             "membership, or correct the dates", column=None,
-                             value=n.member_id))
-    return coalesce(both.drop(columns="_src"))
+        add_row_problem(problems, staged_by_k[int(n.k)], "conflict", int(n.rid), "group_name",
+                        n.group_name, f"member {show(n.member_id)} is in group "
+                        f"{show(n.group_name)} from {n.valid_from} to {n.valid_to} here, but the "
+                        f"store has them in {show(s.group_name)} from {s.valid_from} to "
+                        f"{s.valid_to}", "pass --replace to overwrite the stored membership, or "
+                        "correct the dates")
+    return coalesce(both[SPELL_COLUMNS])
 
 
 def _clip(old: pd.DataFrame, new: pd.DataFrame) -> pd.DataFrame:

@@ -243,8 +243,8 @@ class Store:
         return self.con.execute(sql, params or []).fetchall()
 
     def scalar(self, sql: str, params: Sequence[Any] | dict | None = None) -> Any:
-        row = self.con.execute(sql, params or []).fetchone()
-        return None if row is None else row[0]
+        rows = self.con.execute(sql, params or []).fetchall()  # fetchone leaves the result open
+        return rows[0][0] if rows else None
 
     def insert_frame(self, table: str, frame: pd.DataFrame, *, replace_keys: bool = False) -> int:
         """Append ``frame`` (columns named as the table's) to ``table``; return rows written.
@@ -317,6 +317,19 @@ class Store:
             raise ReadError(exc) from exc
         return int(self.con.execute(f"SELECT count(*) FROM {name}").fetchone()[0])
 
+    def stage_rows(self, name: str, sql: str, params: Sequence[Any] | dict | None = None) -> int:
+        """Like :meth:`stage`, with a column ``rid``: 0, 1, … in the order ``sql`` yields rows.
+
+        The data lives in ``{name}_t``; ``name`` is a view adding ``rid`` from DuckDB's row ids
+        (dense and in insertion order, but offset inside a transaction, hence the base).
+        """
+        check_stage(name)
+        rows = self.stage(f"{name}_t", sql, params)
+        base = self.con.execute(f"SELECT coalesce(min(rowid), 0) FROM {name}_t").fetchone()[0]
+        self.con.execute(f"CREATE OR REPLACE TEMP VIEW {name} AS "
+                         f"SELECT rowid - {int(base)} AS rid, * FROM {name}_t")
+        return rows
+
     def stage_frame(self, name: str, frame: pd.DataFrame) -> int:
         """Copy ``frame`` into the temporary table ``name``; return its row count."""
         check_stage(name)
@@ -335,7 +348,13 @@ class Store:
             raise ReadError(exc) from exc
 
     def drop_staged(self) -> None:
-        """Drop every temporary ``_bw_*`` table of this connection."""
+        """Drop every temporary ``_bw_*`` table and view of this connection."""
+        views = self.con.execute(
+            "SELECT view_name FROM duckdb_views() WHERE temporary "
+            "AND starts_with(view_name, '_bw_')").fetchall()
+        for (name,) in views:
+            if _STAGE_NAME.match(name):
+                self.con.execute(f"DROP VIEW IF EXISTS {name}")
         names = self.con.execute(
             "SELECT table_name FROM duckdb_tables() WHERE temporary "
             "AND starts_with(table_name, '_bw_')").fetchall()
@@ -360,7 +379,8 @@ class ReadError(BadInputError):
 
     def __init__(self, exc: BaseException):
         self.detail = str(exc)
-        super().__init__("input file", f"cannot be read ({_first_line(exc)})",
+        self.reason = re.sub(r"^[A-Za-z ]*Error: ", "", _first_line(exc))
+        super().__init__("input file", f"cannot be read ({self.reason})",
                          "check the file's format")
 
 

@@ -60,9 +60,13 @@ class Problem:
     value: object = None  # the bad value itself (for tests and reports)
     count: int = 1  # rows that share this problem
 
-    def location(self) -> str:
-        place = f"{self.file}:{self.line}" if self.line else (
+    def place(self) -> str:
+        """``file:line``, ``file, where`` or just the file."""
+        return f"{self.file}:{self.line}" if self.line else (
             f"{self.file}, {self.where}" if self.where else self.file)
+
+    def location(self) -> str:
+        place = self.place()
         return f"{place}, column {show(self.column)}" if self.column else place
 
     def text(self) -> str:
@@ -144,7 +148,7 @@ def unknown_codes_error(codes: list[Problem]) -> BadInputError:
     """The one message for every unknown vote code of a load: code, count, first file:line."""
     merged: dict[object, list] = {}
     for p in codes:  # the same code in several files: add counts, keep the first place
-        entry = merged.setdefault(p.value, [0, p.location()])
+        entry = merged.setdefault(p.value, [0, p.place()])
         entry[0] += p.count
     parts = [f"{show(code)} ×{n} (first at {loc})" for code, (n, loc) in list(merged.items())[:20]]
     if len(merged) > 20:
@@ -167,14 +171,14 @@ def check_values(store, staged, *, required: tuple[str, ...], problems: Problems
     exprs = []
     for c in cols:  # c is a stage column name chosen by readers, never text from the file
         exprs.append(f"count(*) FILTER (WHERE length({c}) > {MAX_FIELD_CHARS})")
-        exprs.append(f"min(rowid) FILTER (WHERE length({c}) > {MAX_FIELD_CHARS})")
+        exprs.append(f"min(rid) FILTER (WHERE length({c}) > {MAX_FIELD_CHARS})")
         exprs.append(f"count(*) FILTER (WHERE {c} IS NULL)")
-        exprs.append(f"min(rowid) FILTER (WHERE {c} IS NULL)")
+        exprs.append(f"min(rid) FILTER (WHERE {c} IS NULL)")
     row = store.rows(f"SELECT {', '.join(exprs)} FROM {staged.table}")[0]
     for i, c in enumerate(cols):
         n_long, r_long, n_null, r_null = row[4 * i: 4 * i + 4]
         if n_long:
-            value = store.scalar(f"SELECT {c} FROM {staged.table} WHERE rowid = ?", [r_long])
+            value = store.scalar(f"SELECT {c} FROM {staged.table} WHERE rid = ?", [r_long])
             add_row_problem(problems, staged, "long", r_long, c, value,
                             f"value {show(value, 40)} is longer than {MAX_FIELD_CHARS} characters",
                             "shorten it, or check that the columns are separated correctly",
@@ -193,8 +197,8 @@ FIELD_WORDS = {"body": "body name", "ballot_id": "ballot id", "held_on": "date",
 
 def check_bodies(store, staged, problems: Problems) -> list[str]:
     """Body names from a ``body`` column must be usable as names; return the distinct bodies."""
-    rows = store.rows(f"SELECT body, count(*), min(rowid) FROM {staged.table} "
-                      "WHERE body IS NOT NULL GROUP BY body ORDER BY min(rowid) LIMIT 1001")
+    rows = store.rows(f"SELECT body, count(*), min(rid) FROM {staged.table} "
+                      "WHERE body IS NOT NULL GROUP BY body ORDER BY min(rid) LIMIT 1001")
     for body, n, rid in rows:
         why = name_problem(body)
         if why and "body" in staged.headers:
@@ -211,7 +215,7 @@ def check_dates(store, staged, column: str, problems: Problems, *,
     Distinct values are grouped first, so each different spelling is parsed once.
     """
     rows = store.rows(
-        f"""WITH d AS (SELECT {column} AS v, count(*) AS n, min(rowid) AS r FROM {staged.table}
+        f"""WITH d AS (SELECT {column} AS v, count(*) AS n, min(rid) AS r FROM {staged.table}
                        WHERE {column} IS NOT NULL GROUP BY {column}),
                  p AS (SELECT v, n, r, TRY_CAST(v AS DATE) AS day FROM d)
             SELECT v, n, r, CASE WHEN day IS NULL THEN 'parse'

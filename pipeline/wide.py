@@ -179,7 +179,7 @@ def stage_grid(store: Store, path: Path, *, kind: str, table: str, body: str | N
     store.stage_frame(f"{table}_frame", frame)
     text = ", ".join(f"CAST({c} AS VARCHAR) AS {c}" for c in STAGE_COLUMNS[kind if layout != "wide"
                                                                         else "votes"])
-    rows = store.stage(table, f"SELECT {text}, _row, _j FROM {table}_frame ORDER BY rowid")
+    rows = store.stage_rows(table, f"SELECT {text}, _row, _j FROM {table}_frame ORDER BY rowid")
     staged = Staged(path, str(path), kind, fmt, layout, table, headers, rows, scan_info.sha256)
     positions = frame[["_row", "_j"]].to_numpy()
     stage_cols = {FIELDS[opt][0]: j for opt, j in headers.pop("_cols").items()}
@@ -189,6 +189,8 @@ def stage_grid(store: Store, path: Path, *, kind: str, table: str, body: str | N
         row, j = int(positions[rid][0]), int(positions[rid][1])
         if column == "raw" and layout == "wide":
             return grid.where(row, j, grid.rows[0][j])
+        if column == "ballot_id" and layout == "wide":
+            return grid.where(0, j, grid.rows[0][j])
         if column == "held_on" and date_row is not None:
             return grid.where(date_row, j, grid.rows[0][j])
         col = stage_cols.get(column)
@@ -235,8 +237,8 @@ def _wide_frame(grid: Grid, name: str, body: str | None, overrides: dict, proble
             continue
         if not h:
             if any(r[j] is not None for r in grid.rows[1:]):
-                problems.add(Problem("header", name, "a column with votes has no header (ballot "
-                                     "id)", "write the ballot id in the header cell",
+                problems.add(Problem("header", name, f"column {_letter(j)} holds votes but has no "
+                                     "header", "write the ballot id in its header cell",
                                      line=grid.where(0, j, None)[0],
                                      where=grid.where(0, j, None)[1], column=None, value=""))
                 ok = False
