@@ -110,12 +110,24 @@ def scan_sources(store: Store | None, cfg: Config, body: str | None = None) -> l
             sha = file_sha256(path)
             if sha in loaded:
                 state = "loaded"
-            elif str(path) in seen_paths:
+            elif _seen(path, cfg, seen_paths):
                 state = "changed"
             else:
                 state = "new"
             out.append(SourceFile(name, path, sha, state, kind))
     return out
+
+
+def _seen(path: Path, cfg: Config, seen_paths: set[str]) -> bool:
+    """Was a file at this place loaded before? Matched by its path relative to the project
+    folder, so a project moved or copied elsewhere still knows its files."""
+    if str(path) in seen_paths:
+        return True
+    try:
+        tail = "/" + path.relative_to(cfg.base.resolve()).as_posix()
+    except ValueError:
+        return False
+    return any(p.replace("\\", "/").endswith(tail) for p in seen_paths)
 
 
 def _trends_stale(store: Store, body: str) -> bool:
