@@ -249,8 +249,8 @@ class _Load:
         store, problems = self.store, self.problems
         for k, s in self.staged.items():
             req, _, _ = KINDS[s.kind]
-            check_values(store, s, required=tuple(FIELDS[o][0] for o in req) + ("body",),
-                         problems=problems)
+            required = tuple(FIELDS[o][0] for o in req if o != "vote") + ("body",)  # blank = absent
+            check_values(store, s, required=required, problems=problems)
             bodies = check_bodies(store, s, problems)
             self.results[k].bodies = tuple(bodies)
             for col in ("held_on", "valid_from", "valid_to"):

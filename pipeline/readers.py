@@ -3,7 +3,7 @@
 Every format and layout ends in the same shape: text columns named as the store names them
 (``body, ballot_id, held_on, member_id, raw, group_name, name, title, item`` for votes;
 ``member_id, name, group_name, valid_from, valid_to`` for a roster; ``ballot_id, held_on,
-title, item`` for a ballots file), values trimmed, blanks as NULL, in file order (``rid`` = 0, 1, …).
+title, item`` for a ballots file), values trimmed, blanks as NULL, in file order (``rid``).
 
 Long files (one row per member per ballot) are read by DuckDB straight from disk — CSV,
 Parquet, JSON lines — so they stream; ``.xlsx`` and the wide layout go through

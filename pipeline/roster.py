@@ -18,7 +18,7 @@ import pandas as pd
 
 from blocwatch.pipeline.safety import show
 from blocwatch.pipeline.store import OPEN_FROM, OPEN_TO, Store
-from blocwatch.pipeline.validate import Problem, Problems, add_row_problem
+from blocwatch.pipeline.validate import Problems, add_row_problem
 
 SPELL_COLUMNS = ["body", "member_id", "group_name", "valid_from", "valid_to"]
 _OPEN_FROM, _OPEN_TO = date.fromisoformat(OPEN_FROM), date.fromisoformat(OPEN_TO)
