@@ -338,7 +338,8 @@ def rebuild(ctx, store_path, body, full, out, with_report, images, **flags):
     opts = build_options(**flags)
     store = resolve_store(store_path)
     out_dir = Path(out) if out else default_output()
-    write = (lambda: _write_report(store, body, out_dir, None, images)) if with_report else None
+    write = (lambda folder: _write_report(store, body, folder, None, images)) \
+        if with_report else None
     result = run_rebuild(store, options=opts, body=body, full=full,
                          out=out_dir if with_report else None, write_outputs=write,
                          progress=_progress(ctx, "rebuild"))
@@ -427,8 +428,12 @@ def schedule(cron, systemd_dir, project, when, at, name, user):
                    "contradict (default: a conflict is an error).")
 @click.option("--check", is_flag=True,
               help="Only check: list every problem, grouped and counted; write nothing.")
+@click.option("--scale", default=None, metavar="SPEC",
+              help="Scale of ballots that declare none: binary (default), categorical:A|B|C, "
+                   "ordinal:LOW..HIGH, continuous[:LOW..HIGH]; kept as the body's default.")
 @handle_errors
-def ingest(files, store_path, body, members, layout, codes, ballots, columns, replace, check):
+def ingest(files, store_path, body, members, layout, codes, ballots, columns, replace, check,
+           scale):
     """Load ballot files into the store, all or nothing (a file already loaded is skipped)."""
     from blocwatch.pipeline.errors import EXIT_BAD_INPUT
     from blocwatch.pipeline.ingest import ingest_files, ingest_store
@@ -437,7 +442,7 @@ def ingest(files, store_path, body, members, layout, codes, ballots, columns, re
     with ingest_store(resolve_store(store_path), check_only=check) as store:
         report = ingest_files(store, files, body=body, members=members, layout=layout,
                               codes=codes, replace=replace, columns=parse_column_options(columns),
-                              ballots=ballots, check_only=check)
+                              ballots=ballots, check_only=check, scale=scale)
     for line in report.lines():
         click.echo(line)
     if check and report.problems:

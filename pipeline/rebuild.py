@@ -10,17 +10,23 @@ A rebuild, under the store's lock (:mod:`blocwatch.pipeline.lock`):
    yet, a stored period the period spec no longer produces, and a body whose trends are older
    than its periods (a run killed between its last period and its trends);
 3. if anything is stale, runs :func:`~blocwatch.pipeline.build.build` with ``only_changed``
-   (every period is swapped in within one transaction) and then the ``write_outputs`` callback.
+   (every period is swapped in within one transaction);
+4. if the output folder does not show the store's newest results, writes the outputs into a
+   staging folder beside it and swaps that in (a marker file in the folder records the run
+   whose results it shows).
 
 With nothing new it writes nothing at all — no run row either — and says so. ``full`` forces
 every period to be recomputed and the outputs rewritten. Every step is safe to kill: a load is
-one transaction, a period is one transaction, and whatever a killed run left undone is stale
-for the next one.
+one transaction, a period is one transaction, the output folder is swapped whole, and whatever
+a killed run left undone is stale for the next one.
 """
 
 from __future__ import annotations
 
 import hashlib
+import json
+import os
+import shutil
 from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -35,6 +41,7 @@ from blocwatch.pipeline.runs import tool_version
 from blocwatch.pipeline.store import Store
 
 _CHUNK = 1 << 20
+MARKER = ".blocwatch-outputs.json"  # in the output folder: the run whose results it shows
 
 
 def file_sha256(path: str | Path) -> str:
@@ -71,14 +78,15 @@ class RebuildReport:
 
     @property
     def nothing_to_do(self) -> bool:
-        return self.build is None and not self.ingested
+        return self.build is None and not self.ingested and not self.outputs
 
     def summary(self) -> str:
         files = f"{len(self.sources)} source file(s), {len(self.ingested)} loaded"
         if self.nothing_to_do:
-            return f"nothing to do: {files}; every period is up to date"
+            return f"nothing to do: {files}; every period and the outputs are up to date"
         if self.build is None:
-            return f"{files}; no period changed, nothing recomputed"
+            return f"{files}; no period changed, nothing recomputed" + (
+                "; outputs rewritten from the stored results" if self.outputs else "")
         return (f"run {self.build.run_id}: {files}; {len(self.build.periods)} period(s) "
                 f"recomputed, {len(self.build.skipped)} unchanged")
 
@@ -182,15 +190,52 @@ def _ingest(store: Store, cfg: Config, pending: list[SourceFile]) -> list[Source
     return done
 
 
+def results_run(store: Store) -> int | None:
+    """The newest run whose results the store holds (periods and trends)."""
+    return store.scalar("SELECT max(run_id) FROM (SELECT run_id FROM periods "
+                        "UNION ALL SELECT run_id FROM trends)")
+
+
+def outputs_current(out: str | Path, run_id: int | None) -> bool:
+    """Whether the folder ``out`` was written from the results of run ``run_id``."""
+    try:
+        return json.loads((Path(out) / MARKER).read_text(encoding="utf-8"))["run"] == run_id
+    except (OSError, ValueError, KeyError, TypeError):
+        return False
+
+
+def swap_outputs(out: str | Path, write: Callable[[Path], list[Path]],
+                 run_id: int | None) -> list[Path]:
+    """Write the outputs into a staging folder beside ``out``, then swap it in.
+
+    A run killed while writing leaves ``out`` as it was (or, killed between the two renames,
+    missing), never half old and half new; leftovers of killed runs are removed first.
+    """
+    out = Path(out)
+    out.parent.mkdir(parents=True, exist_ok=True)
+    for leftover in out.parent.glob(f".{out.name}.*-*"):
+        shutil.rmtree(leftover, ignore_errors=True)
+    staging = out.parent / f".{out.name}.staging-{os.getpid()}"
+    old = out.parent / f".{out.name}.old-{os.getpid()}"
+    paths = write(staging)
+    (staging / MARKER).write_text(json.dumps({"run": run_id}) + "\n", encoding="utf-8")
+    if out.exists():
+        out.rename(old)
+    staging.rename(out)
+    shutil.rmtree(old, ignore_errors=True)
+    return [out / Path(p).relative_to(staging) for p in paths]
+
+
 def rebuild(store_path: str | Path, *, options: BuildOptions | None = None,
             config: Config | None = None, body: str | None = None, full: bool = False,
             out: str | Path | None = None,
-            write_outputs: Callable[[], list[Path]] | None = None,
+            write_outputs: Callable[[Path], list[Path]] | None = None,
             progress: Callable[[str], None] | None = None) -> RebuildReport:
     """Bring the store (and the outputs in ``out``) up to date; see the module docstring.
 
-    ``write_outputs`` is called after the store is closed (still under the lock) when
-    something was recomputed, with ``full``, or when the folder ``out`` does not exist yet.
+    ``write_outputs(folder)`` writes the outputs into ``folder`` and returns their paths; it
+    is called after the store is closed (still under the lock) when ``out`` does not show the
+    store's newest results, or with ``full``.
     """
     opts = options or BuildOptions()
     cfg = config or active_config()
@@ -213,7 +258,8 @@ def rebuild(store_path: str | Path, *, options: BuildOptions | None = None,
                           "stale": [[s.body, s.period, s.reason] for s in report.stale]}
                 report.build = build(store, body=body, options=opts, only_changed=not full,
                                      progress=progress, command="rebuild", inputs=inputs)
-        missing_out = out is not None and not Path(out).exists()
-        if write_outputs is not None and (report.build is not None or missing_out):
-            report.outputs = write_outputs()
+            newest = results_run(store)
+        if write_outputs is not None and out is not None and newest is not None and (
+                full or not outputs_current(out, newest)):
+            report.outputs = swap_outputs(out, write_outputs, newest)
     return report
