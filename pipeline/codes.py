@@ -19,6 +19,7 @@ over the built-in table (a body where ``present`` means "voted yes" can say so).
 from __future__ import annotations
 
 import csv
+import io
 import re
 from collections.abc import Iterable
 from pathlib import Path
@@ -106,18 +107,33 @@ def load_mapping(path: str | Path) -> dict[str, str]:
         line = text[: text.index("\x00")].count("\n") + 1
         raise BadInputError(f"{path}:{line}", "contains a NUL byte",
                             "save the mapping file as plain UTF-8 CSV")
-    rows = list(csv.reader(text.splitlines()))
-    if not rows:
+    reader = csv.reader(io.StringIO(text, newline=""))
+    try:
+        header_row = next(reader, None)
+    except csv.Error as exc:
+        raise BadInputError(f"{path}:1", f"cannot be split into fields ({exc})",
+                            "write a plain header line raw,choice") from exc
+    if header_row is None:
         raise BadInputError(str(path), "is empty", "write a header raw,choice and one row per code")
-    header = [h.strip().casefold() for h in rows[0]]
+    header = [h.strip().casefold() for h in header_row]
     if "raw" not in header or "choice" not in header:
-        raise BadInputError(f"{path}:1", f"header {show(','.join(rows[0]))} lacks the columns "
+        raise BadInputError(f"{path}:1", f"header {show(','.join(header_row))} lacks the columns "
                             "raw and choice", "start the file with the line raw,choice")
     i_raw, i_choice = header.index("raw"), header.index("choice")
     mapping: dict[str, str] = {}
     first_line: dict[str, int] = {}
-    for line, row in enumerate(rows[1:], start=2):
+    line = reader.line_num  # last line read so far
+    while True:
+        try:
+            row = next(reader, None)
+        except csv.Error as exc:
+            raise BadInputError(f"{path}:{reader.line_num}", f"cannot be split into fields "
+                                f"({exc})", "close every quoted value") from exc
+        if row is None:
+            break
+        line, end = line + 1, reader.line_num
         if not any(cell.strip() for cell in row):
+            line = end
             continue
         if len(row) != len(header):
             raise BadInputError(f"{path}:{line}", f"has {len(row)} fields, the header "
@@ -133,4 +149,5 @@ def load_mapping(path: str | Path) -> dict[str, str]:
                                 "keep one row per code")
         mapping[key] = choice
         first_line.setdefault(key, line)
+        line = end
     return mapping
