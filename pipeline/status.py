@@ -115,7 +115,9 @@ def status(store_path: str | Path, *, options: BuildOptions | None = None,
                 r["status"] = "interrupted"
         report.interrupted_runs = [int(r["run_id"]) for r in runs if r["status"] == "interrupted"]
         last = runs[-1]
-        last["recomputed"] = json.loads(last["recomputed"] or "[]")
+        # NULL until a run finishes: a killed run recomputed nothing it recorded
+        done = last["recomputed"]
+        last["recomputed"] = json.loads(done) if isinstance(done, str) and done else []
         report.last_run = {k: (None if _missing(v) else v) for k, v in last.items()}
     return report
 

@@ -91,8 +91,9 @@ def cli_here(*args, project: Path):
 
 
 def popen(*args, cwd: Path) -> subprocess.Popen:
+    """Start the CLI in its own session (so a test can kill its whole process group)."""
     return subprocess.Popen([*exe(), *map(str, args)], cwd=cwd, stdout=subprocess.PIPE,
-                            stderr=subprocess.PIPE, text=True)
+                            stderr=subprocess.PIPE, text=True, start_new_session=True)
 
 
 def contents(store_path: Path) -> dict[str, pd.DataFrame]:
