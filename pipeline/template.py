@@ -51,7 +51,7 @@ def _section(name: str, params: dict[str, click.Parameter]) -> list[str]:
             continue
         lines += _comment(param.help or "")
         default = param.default
-        if default is None or callable(default):
+        if not isinstance(default, (bool, int, float, str)):  # None, unset, computed
             lines.append(f"# {key} = ...")
         else:
             lines.append(f"{key} = {toml_value(default)}")
