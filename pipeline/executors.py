@@ -131,6 +131,8 @@ class PoolExecutor(Executor):
         method = "forkserver" if "forkserver" in multiprocessing.get_all_start_methods() \
             else "spawn"
         ctx = multiprocessing.get_context(method)
+        if method == "forkserver":  # import the heavy modules once, not in every worker
+            ctx.set_forkserver_preload(["blocwatch.pipeline.compute"])
         self._pool = ProcessPoolExecutor(max_workers=spec.jobs, mp_context=ctx,
                                          initializer=_limit_threads, initargs=(threads,))
 
