@@ -152,7 +152,8 @@ def _replace_labels(inp: PeriodInput, labels: np.ndarray) -> PeriodInput:
 
 def compute_period(vm: VoteMatrix, opts: BuildOptions, version: str) -> PeriodResult:
     """All result rows of one period (``vm`` as loaded, before filtering)."""
-    seed = stable_seed(opts.seed, vm.body, vm.period.name)
+    # 32 bits: scikit-learn's random_state (separability folds) refuses larger seeds.
+    seed = stable_seed(opts.seed, vm.body, vm.period.name) % 2**32
     fp = fingerprint(vm, opts, version)
     vm = filter_period(vm, opts.agreement)
     labels = vm.labels
