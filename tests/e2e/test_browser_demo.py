@@ -1,0 +1,77 @@
+"""The demo through the real CLI, then its briefing page in headless Chromium.
+
+The headline on the page must carry the demo's stored numbers: the expected first and last
+values are read from ``blocwatch export --table metrics``, never typed here.
+"""
+
+import io
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import pandas as pd
+import pytest
+
+from blocwatch.dashboards.chart import slug
+from tests.browser_util import Browser, chromium_path
+
+ARTIFACTS = Path(__file__).resolve().parents[1] / "artifacts"
+CLI = ([shutil.which("blocwatch")] if shutil.which("blocwatch")
+       else [sys.executable, "-c", "from blocwatch.pipeline.cli import main; main()"])
+
+
+@pytest.fixture(scope="module")
+def demo(tmp_path_factory):
+    out = tmp_path_factory.mktemp("demo")
+    proc = subprocess.run([*CLI, "demo", "--out", str(out / "d")], capture_output=True,
+                          text=True, timeout=600)
+    assert proc.returncode == 0, proc.stderr
+    export = subprocess.run([*CLI, "export", "--store", str(out / "d" / "blocwatch.duckdb"),
+                             "--table", "metrics"], capture_output=True, text=True, timeout=120)
+    assert export.returncode == 0, export.stderr
+    return out / "d", pd.read_csv(io.StringIO(export.stdout))
+
+
+def _headline_parts(metrics: pd.DataFrame, body: str) -> list[str]:
+    rows = metrics[(metrics.body == body) & (metrics.metric == "group_modularity")
+                   & metrics.value.notna()].sort_values("period_start")
+    first, last = rows.iloc[0], rows.iloc[-1]
+
+    def shown(r):
+        text = f"{r.value:.2f}"
+        if pd.notna(r.low) and pd.notna(r.high):
+            text += f" [{r.low:.2f}–{r.high:.2f}]"
+        return text
+
+    return [f"{shown(first)} in {first.period}", f"{shown(last)} in {last.period}"]
+
+
+def test_demo_headline_matches_the_stored_numbers(demo):
+    out, metrics = demo
+    body = metrics.body.iloc[0]
+    page = out / "report" / f"briefing-{slug(body)}.html"
+    html = page.read_text()
+    headline = html.split("<p class='bw-headline'>", 1)[1].split("</p>", 1)[0]
+    assert headline.startswith("Group modularity ")
+    for part in _headline_parts(metrics, body):
+        assert part in headline
+
+
+@pytest.mark.browser
+@pytest.mark.skipif(chromium_path() is None,
+                    reason="needs headless Chromium (Debian package chromium)")
+def test_demo_page_renders_offline(demo):
+    out, metrics = demo
+    body = metrics.body.iloc[0]
+    with Browser(chromium_path()) as b:
+        b.open((out / "report" / f"briefing-{slug(body)}.html").as_uri())
+        b.wait_for("window.__bwRendered + window.__bwErrors.length === window.__bwCharts")
+        assert b.eval("window.__bwErrors") == []
+        n_metrics = metrics[metrics.value.notna()].metric.nunique()
+        trend_plots = b.eval("document.querySelectorAll('.js-plotly-plot[id*=\"-trend-\"]')"
+                             ".length")
+        assert trend_plots == n_metrics
+        assert b.errors() == [] and b.blocked == []
+        shot = b.screenshot(ARTIFACTS / f"demo-briefing-{slug(body)}.png")
+        assert shot.stat().st_size > 20_000
