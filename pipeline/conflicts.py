@@ -18,10 +18,15 @@ def reduce_votes(store: Store, staged, k: int, problems: Problems) -> str:
     table = f"_bw_v{k}"
     store.stage(table, f"""
         SELECT t.body, t.ballot_id, t.member_id, arg_min(t.raw, t.rid) AS raw,
-               min(c.choice) AS choice, count(DISTINCT c.choice) AS n_choices,
+               min(coalesce(a.choice, c.choice)) AS choice,
+               count(DISTINCT coalesce(a.choice, c.choice)) AS n_choices,
                min(t.rid) AS rid, CAST({k} AS INTEGER) AS k
-        FROM {staged.table} t JOIN _bw_codes c ON c.raw = coalesce(t.raw, '')
+        FROM {staged.table} t
+        LEFT JOIN _bw_answers a ON a.body = t.body AND a.ballot_id = t.ballot_id
+             AND a.raw = coalesce(t.raw, '')
+        LEFT JOIN _bw_codes c ON c.raw = coalesce(t.raw, '') AND a.choice IS NULL
         WHERE t.body IS NOT NULL AND t.ballot_id IS NOT NULL AND t.member_id IS NOT NULL
+              AND coalesce(a.choice, c.choice) IS NOT NULL
         GROUP BY t.body, t.ballot_id, t.member_id""")
     n, = store.rows(f"SELECT count(*) FROM {table} WHERE n_choices > 1")[0]
     if n:

@@ -31,10 +31,11 @@ from pathlib import Path
 import pandas as pd
 
 from blocwatch.pipeline import codes as vote_codes
-from blocwatch.pipeline import conflicts, roster, sniff, writer
+from blocwatch.pipeline import conflicts, roster, scale_load, sniff, writer
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.readers import FIELDS, KINDS, Staged, parse_columns, stage_file
 from blocwatch.pipeline.safety import check_name, show
+from blocwatch.pipeline.scales import parse_scale
 from blocwatch.pipeline.store import Store
 from blocwatch.pipeline.validate import (
     EXAMPLES,
@@ -107,7 +108,7 @@ class IngestReport:
 
 def ingest_files(store: Store, paths, *, body: str | None, members=None, layout: str = "long",
                  codes=None, replace: bool = False, columns: dict[str, str] | None = None,
-                 ballots=None, check_only: bool = False) -> IngestReport:
+                 ballots=None, check_only: bool = False, scale=None) -> IngestReport:
     """Load vote files (plus an optional roster and ballots file) into ``store`` atomically.
 
     Parameters
@@ -131,6 +132,9 @@ def ingest_files(store: Store, paths, *, body: str | None, members=None, layout:
         Ballot dates and titles: ``ballot_id, held_on[, title, item]``.
     check_only : bool
         Check everything, write nothing; problems are returned in the report, not raised.
+    scale : str, optional
+        Scale of the load's ballots that declare none (``ordinal:1..9``, …; see
+        :mod:`blocwatch.pipeline.scales`), also stored as the body's default.
 
     Returns
     -------
@@ -162,6 +166,7 @@ def ingest_files(store: Store, paths, *, body: str | None, members=None, layout:
                              "check the path")
     load = _Load(store, body=body, layout=layout, mapping=mapping, replace=replace,
                  overrides=overrides, check_only=check_only)
+    load.scale = None if scale is None else parse_scale(scale)
     with store.transaction():
         report = load.run(inputs)
         if report.problems and not check_only:
@@ -207,6 +212,7 @@ class _Load:
         self.staged: dict[int, Staged] = {}
         self.notes: list[str] = []
         self.bad_members: set[str] = set()  # roster rows refused: no follow-up complaints
+        self.scale = None  # --scale: the load's default ballot scale
 
     # -- stage every file ---------------------------------------------------------------------
     def run(self, inputs) -> IngestReport:
@@ -257,6 +263,8 @@ class _Load:
                 if col in s.headers:
                     check_dates(store, s, col, problems, future_ok=s.kind == "roster")
         votes = self._of("votes")
+        scale_load.stage_scales(store, self.staged, default=self.scale, replace=self.replace,
+                                mapping=self.mapping, problems=problems)
         self._codes(votes)
         vote_tables = [conflicts.reduce_votes(store, s, k, problems) for k, s in votes.items()]
         ballot_tables = [conflicts.reduce_ballots(store, s, k, problems) for k, s in
@@ -284,6 +292,7 @@ class _Load:
             store, votes=combined, ballots=bal, members=members, spells=spells,
             spell_members=spell_members, ingests=self._ingest_rows(), bodies=bodies,
             replace=self.replace)
+        scale_load.write_scales(store, default=self.scale, bodies=bodies)
 
     def _names(self) -> list[str]:
         return [r.path for r in self.results]
@@ -291,8 +300,10 @@ class _Load:
     def _codes(self, votes: dict[int, Staged]) -> None:
         table: dict[object, str] = {"": "absent"}
         for s in votes.values():
-            rows = self.store.rows(f"SELECT raw, count(*), min(rid) FROM {s.table} GROUP BY raw "
-                                   "ORDER BY min(rid) LIMIT 100001")
+            rows = self.store.rows(f"SELECT raw, count(*), min(rid) FROM {s.table} t WHERE NOT "
+                                   "EXISTS (SELECT 1 FROM _bw_scales x WHERE x.body = t.body "
+                                   "AND x.ballot_id = t.ballot_id AND x.scale <> 'binary') "
+                                   "GROUP BY raw ORDER BY min(rid) LIMIT 100001")
             known, unknown = vote_codes.resolve([r[0] for r in rows], self.mapping)
             table.update({k: v for k, v in known.items() if k is not None})
             info = {r[0]: r for r in rows}

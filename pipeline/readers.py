@@ -31,21 +31,29 @@ FIELDS: dict[str, tuple[str, tuple[str, ...]]] = {
                              "division_id", "roll_call", "rollcall")),
     "date": ("held_on", ("held_on", "date", "ballot_date", "vote_date")),
     "member": ("member_id", ("member_id", "member", "mp_id", "voter", "voter_id")),
-    "vote": ("raw", ("vote", "choice", "raw", "code", "position", "vote_code")),
+    "vote": ("raw", ("vote", "choice", "raw", "code", "position", "vote_code", "score",
+                     "answer")),
     "group": ("group_name", ("group_name", "group", "party", "faction", "caucus")),
     "name": ("name", ("name", "member_name", "full_name")),
     "title": ("title", ("title", "ballot_title", "motion")),
     "item": ("item", ("item", "agenda_item")),
     "valid_from": ("valid_from", ("valid_from", "from", "since", "start")),
     "valid_to": ("valid_to", ("valid_to", "to", "until", "end")),
+    # Scale declarations (blocwatch.pipeline.scales): a spec, or a kind with range/options.
+    "scale": ("scale", ("scale",)),
+    "scale_min": ("scale_min", ("scale_min",)),
+    "scale_max": ("scale_max", ("scale_max",)),
+    "options": ("options", ("options",)),
 }
+SCALE_OPTIONAL = ("scale", "scale_min", "scale_max", "options")
 # per kind of file: (required fields, optional fields, extra accepted names)
 KINDS: dict[str, tuple[tuple[str, ...], tuple[str, ...], dict[str, tuple[str, ...]]]] = {
-    "votes": (("ballot", "member", "vote"), ("body", "date", "group", "name", "title", "item"),
-              {}),
+    "votes": (("ballot", "member", "vote"), ("body", "date", "group", "name", "title", "item",
+                                             *SCALE_OPTIONAL), {}),
     "roster": (("member", "group"), ("body", "name", "valid_from", "valid_to"),
                {"member": ("id",)}),
-    "ballots": (("ballot", "date"), ("body", "title", "item"), {"ballot": ("id",)}),
+    "ballots": (("ballot", "date"), ("body", "title", "item", *SCALE_OPTIONAL),
+                {"ballot": ("id",)}),
     "wide": (("member",), ("body", "name", "group"), {}),  # the member columns of a wide sheet
 }
 FORMATS = {".csv": "csv", ".tsv": "csv", ".txt": "csv", ".parquet": "parquet",

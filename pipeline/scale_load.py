@@ -49,7 +49,11 @@ def _declarations(store, staged: dict, problems) -> dict[tuple[str, str], tuple[
     """``{(body, ballot): (scale, staged file, row)}`` from the files' scale columns."""
     out: dict = {}
     for s in staged.values():
-        if s.kind not in ("votes", "ballots") or not any(c in s.headers for c in SCALE_COLUMNS):
+        if s.kind not in ("votes", "ballots"):
+            continue
+        filled = " OR ".join(f"{c} IS NOT NULL" for c in SCALE_COLUMNS)
+        if not store.scalar(f"SELECT count(*) FROM (SELECT 1 FROM {s.table} WHERE {filled} "
+                            "LIMIT 1)"):  # the file declares nothing (or has no such columns)
             continue
         rows = store.rows(f"""SELECT body, ballot_id, scale, scale_min, scale_max, options,
                                      min(rid) FROM {s.table} WHERE body IS NOT NULL
@@ -92,7 +96,7 @@ def stage_scales(store, staged: dict, *, default: Scale | None = None, replace: 
     declared = _declarations(store, staged, problems)
     union = " UNION ".join(f"SELECT DISTINCT body, ballot_id, CAST({k} AS INTEGER) AS k "
                            f"FROM {s.table} WHERE body IS NOT NULL AND ballot_id IS NOT NULL"
-                           for k, s in votes.items())
+                           for k, s in staged.items() if s.kind in ("votes", "ballots"))
     keys = store.df(f"SELECT body, ballot_id, min(k) AS k FROM ({union}) GROUP BY ALL") \
         if union else pd.DataFrame(columns=["body", "ballot_id", "k"])
     stored, body_scale = _stored(store, keys[["body", "ballot_id"]])

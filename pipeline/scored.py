@@ -294,12 +294,14 @@ def scored_period_input(votes, sm, labels, opts, seed: int, weights=None) -> Per
     agreement, shared = scored_agreement(votes, sm, opts.agreement, weights=weights)
     graph = build_graph(agreement, labels, parse_rule(opts.rule))
     binary = _columns(sm, votes.shape[1])["binary"]
-    yes_no = votes[:, binary]
+    # Yes/no ballots only, for the families that read votes; None when there are none (a
+    # scored panel), so those families say the vote matrix is not available.
+    yes_no = votes[:, binary] if binary.any() or not votes.shape[1] else None
     alpha = alpha_scores(votes, sm)
     scores, level = (None, None) if alpha is None else alpha[1:]
     if weights is not None:  # the resampled matrices, for the families that read them
         reps = np.asarray(weights, dtype=np.int64)
-        yes_no = np.repeat(yes_no, reps[binary], axis=1)
+        yes_no = None if yes_no is None else np.repeat(yes_no, reps[binary], axis=1)
         if alpha is not None:
             scores = np.repeat(scores, reps[alpha[0]], axis=1)
     return PeriodInput(agreement=agreement, shared=np.rint(shared).astype(np.int64),

@@ -43,6 +43,7 @@ KINDS = {
     "roster": "roster problems",
     "member": "members without a group",
     "conflict": "conflicts with stored data",
+    "scale": "answers outside a ballot's scale",
 }
 
 

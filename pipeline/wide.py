@@ -35,7 +35,9 @@ from blocwatch.pipeline.validate import Problem, Problems
 
 STAGE_COLUMNS = {kind: tuple(FIELDS[o][0] for o in req + opt)
                  for kind, (req, opt, _) in KINDS.items()}
-META_ROWS = {"date": "held_on", "held_on": "held_on", "title": "title", "item": "item"}
+META_ROWS = {"date": "held_on", "held_on": "held_on", "title": "title", "item": "item",
+             "scale": "scale", "scale_min": "scale_min", "scale_max": "scale_max",
+             "options": "options"}
 
 
 @dataclass
@@ -277,6 +279,8 @@ def _wide_frame(grid: Grid, name: str, body: str | None, overrides: dict, proble
         "name": _member_col(grid, members, cols.get("name"), b),
         "title": _meta_row(grid, meta.get("title"), ballots, m),
         "item": _meta_row(grid, meta.get("item"), ballots, m),
+        **{c: _meta_row(grid, meta.get(c), ballots, m)
+           for c in ("scale", "scale_min", "scale_max", "options")},
     })
     frame["_row"] = np.repeat(np.array(members, dtype=np.int64), b)
     frame["_j"] = np.tile(np.array(ballots, dtype=np.int64), m)
