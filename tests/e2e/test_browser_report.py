@@ -84,6 +84,11 @@ def test_briefing_renders_every_chart_offline(site, browser):
         n = members[members.period == period].member_id.nunique()
         assert p["points"] == n  # one drawn marker per member
     assert heat[0]["types"] == ["heatmap"] * len(periods)
+    # Every chart carries alternative text and the table of its numbers beside it.
+    assert browser.eval("""Array.from(document.querySelectorAll('.js-plotly-plot')).every(
+        function (gd) { var f = gd.closest('figure');
+          return gd.getAttribute('role') === 'img' && gd.getAttribute('aria-label').length > 40
+                 && f.querySelector('details table tbody tr') !== null; })""")
     assert browser.blocked == []
     assert browser.errors() == []
 
