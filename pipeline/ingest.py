@@ -1,10 +1,13 @@
 """Load ballot files into the store: stage, check everything, then write it all or nothing.
 
-One call of :func:`ingest_files` is one transaction. Files are staged into temporary tables by
-:mod:`~blocwatch.pipeline.readers`, every check of :mod:`~blocwatch.pipeline.validate`,
-:mod:`~blocwatch.pipeline.conflicts` and :mod:`~blocwatch.pipeline.roster` runs, and only if
-none found a problem does :mod:`~blocwatch.pipeline.writer` insert. On any error the
-transaction rolls back, so the store is exactly as before.
+One call of :func:`ingest_files` writes in one transaction. Files are staged into temporary
+tables by :mod:`~blocwatch.pipeline.readers`, every check of
+:mod:`~blocwatch.pipeline.validate`, :mod:`~blocwatch.pipeline.conflicts` and
+:mod:`~blocwatch.pipeline.roster` runs, and only if none found a problem does
+:mod:`~blocwatch.pipeline.writer` insert, inside one transaction. On any error nothing has been
+written (or the transaction rolls back), so the store is exactly as before. Staging stays outside
+the transaction on purpose: DuckDB aborts a transaction on a failed read, and a malformed file
+must become a message, not a dead transaction.
 
 Decisions worth knowing:
 
@@ -167,10 +170,11 @@ def ingest_files(store: Store, paths, *, body: str | None, members=None, layout:
     load = _Load(store, body=body, layout=layout, mapping=mapping, replace=replace,
                  overrides=overrides, check_only=check_only)
     load.scale = None if scale is None else parse_scale(scale)
-    with store.transaction():
+    try:  # staging and checks run outside the transaction: a DuckDB read error would abort it
         report = load.run(inputs)
         if report.problems and not check_only:
             raise report.problems.first_error()
+    finally:
         store.drop_staged()
     return report
 
@@ -288,11 +292,12 @@ class _Load:
         members = self._members(votes)
         bodies = sorted({b for r in self.results for b in r.bodies} | set(
             spells["body"].unique() if not spells.empty else []))
-        report.votes_written = writer.write_load(
-            store, votes=combined, ballots=bal, members=members, spells=spells,
-            spell_members=spell_members, ingests=self._ingest_rows(), bodies=bodies,
-            replace=self.replace)
-        scale_load.write_scales(store, default=self.scale, bodies=bodies)
+        with store.transaction():  # every write of the load: all or nothing
+            report.votes_written = writer.write_load(
+                store, votes=combined, ballots=bal, members=members, spells=spells,
+                spell_members=spell_members, ingests=self._ingest_rows(), bodies=bodies,
+                replace=self.replace)
+            scale_load.write_scales(store, default=self.scale, bodies=bodies)
 
     def _names(self) -> list[str]:
         return [r.path for r in self.results]

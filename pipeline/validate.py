@@ -123,9 +123,9 @@ class Problems:
         if not self.items:
             return ["no problems found"]
         lines: list[str] = []
-        by_file: dict[str, list[Problem]] = {}
+        by_file: dict[str, list[Problem]] = {p.file: [] for p in self.items}  # files in order
         for p in self.ordered():
-            by_file.setdefault(p.file, []).append(p)
+            by_file[p.file].append(p)
         for file, problems in by_file.items():
             kinds = Counter(p.kind for p in problems)
             rows = sum(p.count for p in problems)
