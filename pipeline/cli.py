@@ -14,6 +14,7 @@ from pathlib import Path
 
 import click
 
+from blocwatch.dashboards.errors import DashboardError
 from blocwatch.pipeline.errors import EXIT_FAILURE, EXIT_USAGE, BlocwatchError
 
 STORE_HELP = "DuckDB store file (default: ./blocwatch.duckdb, or the one blocwatch.toml names)."
@@ -33,7 +34,7 @@ def handle_errors(func):
         debug = bool(ctx.find_root().params.get("debug"))
         try:
             return func(*args, **kwargs)
-        except BlocwatchError as exc:
+        except (BlocwatchError, DashboardError) as exc:
             if debug:
                 traceback.print_exc()
             _fail(exc.line(), exc.exit_code)
@@ -236,7 +237,7 @@ def _write_report(store_path: Path, body: str | None, out: Path, periods: list[s
     with Store(store_path, read_only=True) as store:
         frames = report_frames(store, body=body, periods=periods)
     tables = ReportTables(**frames, colours=group_colours())
-    return write_report(out, tables, images=images)
+    return write_report(out, tables, periods=periods, images=images)
 
 
 @cli.command()
