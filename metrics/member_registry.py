@@ -1,0 +1,134 @@
+"""The registry of per-member metrics: one length-n array per metric and period.
+
+Like :mod:`blocwatch.metrics.registry`, but each family returns arrays aligned with the
+period's members (NaN where a member's score is undefined). Importing this module registers
+the built-in member families below; :func:`compute_members` never raises for degenerate
+input: a family that raises ``ValueError`` gets all-NaN arrays and a note.
+
+These scores describe voting patterns, not people: they must not be used to single anyone
+out.
+
+Metric names are part of the export contract: add names, never rename them.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import numpy as np
+
+from blocwatch.metrics.bridges import (
+    cross_tie_share,
+    leave_one_out_delta_q,
+    participation_coefficient,
+    super_cooperators,
+)
+from blocwatch.metrics.cohesion import loyalty
+from blocwatch.metrics.mds import agreement_distances, classical_mds
+from blocwatch.metrics.positions import period_ideal_points
+from blocwatch.metrics.registry import PeriodInput
+
+
+@dataclass(frozen=True)
+class MemberFamily:
+    name: str
+    metrics: tuple[str, ...]
+    func: Callable[[PeriodInput], dict[str, np.ndarray]]
+
+
+MEMBER_FAMILIES: dict[str, MemberFamily] = {}
+
+
+def register_member(name: str, metrics: tuple[str, ...]):
+    """Decorator: add a member-level family to :data:`MEMBER_FAMILIES`."""
+
+    def deco(func: Callable[[PeriodInput], dict[str, np.ndarray]]):
+        if name in MEMBER_FAMILIES:
+            raise ValueError(f"member metric family {name!r} is registered twice")
+        MEMBER_FAMILIES[name] = MemberFamily(name, metrics, func)
+        return func
+
+    return deco
+
+
+def member_metric_names() -> list[str]:
+    """Every member metric name, in registration order."""
+    return [m for fam in MEMBER_FAMILIES.values() for m in fam.metrics]
+
+
+def compute_members(inp: PeriodInput, *, families: list[str] | None = None,
+                    notes: dict[str, str] | None = None) -> dict[str, np.ndarray]:
+    """Run every (or the named) member families on one period.
+
+    Returns one float array of length n per metric. A family raising ``ValueError`` yields
+    NaN arrays; its message goes into ``notes`` (metric → note) when a dict is passed.
+    """
+    out: dict[str, np.ndarray] = {}
+    n = inp.n
+    for fam in MEMBER_FAMILIES.values():
+        if families is not None and fam.name not in families:
+            continue
+        try:
+            values = fam.func(inp)
+            why = ""
+        except ValueError as exc:
+            values, why = {}, str(exc)
+        for m in fam.metrics:
+            arr = np.asarray(values.get(m, np.full(n, np.nan)), dtype=np.float64)
+            if arr.shape != (n,):
+                raise RuntimeError(f"member family {fam.name!r} returned shape {arr.shape} for "
+                                   f"{m!r}, expected ({n},)")
+            out[m] = arr
+            if notes is not None and (why or m not in values):
+                notes[m] = why or "not computed"
+    return out
+
+
+def _need_votes(inp: PeriodInput) -> np.ndarray:
+    if inp.votes is None:
+        raise ValueError("needs the vote matrix, which was not available")
+    return np.asarray(inp.votes)
+
+
+@register_member("cross_ties", ("cross_tie_share",))
+def _cross_ties(inp: PeriodInput) -> dict[str, np.ndarray]:
+    """Share of the member's edges (the period's thresholded graph) that cross groups."""
+    return {"cross_tie_share": cross_tie_share(inp.edges, inp.labels)}
+
+
+@register_member("participation", ("participation",))
+def _participation(inp: PeriodInput) -> dict[str, np.ndarray]:
+    """Participation coefficient on the weighted graph."""
+    return {"participation": participation_coefficient(inp.weights, inp.labels)}
+
+
+@register_member("cross_partners", ("cross_partners",))
+def _cross_partners(inp: PeriodInput) -> dict[str, np.ndarray]:
+    """Other-group members agreed with at least as often as the median same-group pair."""
+    return {"cross_partners": super_cooperators(inp.agreement, inp.labels)}
+
+
+@register_member("delta_q", ("delta_q",))
+def _delta_q(inp: PeriodInput) -> dict[str, np.ndarray]:
+    """Change in group modularity (weighted graph) when the member is left out."""
+    return {"delta_q": leave_one_out_delta_q(inp.weights, inp.labels)}
+
+
+@register_member("loyalty", ("loyalty",))
+def _loyalty(inp: PeriodInput) -> dict[str, np.ndarray]:
+    """Share of group-line ballots voted with the own group's line."""
+    return {"loyalty": loyalty(_need_votes(inp), inp.labels)}
+
+
+@register_member("ideal", ("ideal_point",))
+def _ideal(inp: PeriodInput) -> dict[str, np.ndarray]:
+    """Standardised 1-D probit ideal point (positive = votes yes more often)."""
+    return {"ideal_point": np.array(period_ideal_points(_need_votes(inp)).x)}
+
+
+@register_member("mds", ("mds_1", "mds_2"))
+def _mds(inp: PeriodInput) -> dict[str, np.ndarray]:
+    """First two classical-MDS coordinates of 1 − agreement (sign rule of ``classical_mds``)."""
+    coords = classical_mds(agreement_distances(inp.agreement), 2)
+    return {"mds_1": coords[:, 0], "mds_2": coords[:, 1]}
