@@ -1,7 +1,8 @@
 """Kill -9 a rebuild or an ingest at a random moment, check the store, finish, compare.
 
 Each trial starts from a project whose store holds the first years already built, adds the
-remaining years' files, starts ``blocwatch rebuild`` (or ``blocwatch ingest``) in a subprocess,
+remaining years' files, starts ``blocwatch rebuild`` (or ``blocwatch ingest``, or a rebuild
+under another setting that recomputes every period) in a subprocess,
 waits until it holds the store's lock, sleeps a random part of that command's measured running
 time and sends SIGKILL to its whole process group. Then it checks that
 
@@ -55,7 +56,7 @@ RESULTS = ("period_metrics", "member_metrics", "group_agreement")
 
 @dataclass
 class Trial:
-    kind: str  # "rebuild" or "ingest"
+    kind: str  # one of KINDS
     delay: float  # seconds after the lock was taken
     killed: bool  # False when the command finished before the kill
     state: dict  # what the killed command had committed: years loaded, periods, runs
@@ -66,9 +67,16 @@ class Trial:
                 f"{s['new_periods']}, interrupted runs {s['interrupted']}")
 
 
+# "resettle": a rebuild under another setting, so every period is recomputed (a longer build
+# phase to land in), and the finishing rebuild must find those periods stale again.
+KINDS = ("rebuild", "ingest", "resettle")
+
+
 def _command(kind: str, project: Path) -> list[str]:
     if kind == "rebuild":
         return ["rebuild", "--no-report"]
+    if kind == "resettle":
+        return ["rebuild", "--no-report", "--min-shared", "6"]
     files = [project / "data" / f"votes-{FIRST_YEAR + k}.csv" for k in range(ALL_YEARS)]
     return ["ingest", *files, "--body", BODY, "--members", project / "data" / "roster.csv"]
 
@@ -181,7 +189,7 @@ def run_trial(base: Path, kind: str, delay: float, work: Path, expected: dict,
 
 def run_trials(trials: int, *, seed: int = 1, work: Path | None = None, log=print,
                spans: dict[str, float] | None = None) -> list[Trial]:
-    """``trials`` kills alternating rebuild and ingest; ``spans`` (seconds each holds the lock
+    """``trials`` kills, cycling through :data:`KINDS`; ``spans`` (seconds each holds the lock
     when not interrupted) is measured unless given."""
     rng = random.Random(seed)
     own = work is None
@@ -190,12 +198,11 @@ def run_trials(trials: int, *, seed: int = 1, work: Path | None = None, log=prin
         base = work / "base"
         prepare(base)
         expected = reference(work / "reference")
-        spans = spans or {kind: measure(base, kind, work) for kind in ("rebuild", "ingest")}
-        log(f"uninterrupted lock hold: rebuild {spans['rebuild']:.2f}s, "
-            f"ingest {spans['ingest']:.2f}s")
+        spans = spans or {kind: measure(base, kind, work) for kind in KINDS}
+        log("uninterrupted lock hold: " + ", ".join(f"{k} {v:.2f}s" for k, v in spans.items()))
         done = []
         for n in range(trials):
-            kind = ("rebuild", "ingest")[n % 2]
+            kind = KINDS[n % len(KINDS)]
             delay = rng.uniform(0, spans[kind])
             t = run_trial(base, kind, delay, work, expected, n)
             log(f"trial {n + 1:2d}: {kind:7s} kill at {delay:.3f}s "

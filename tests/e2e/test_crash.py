@@ -95,8 +95,8 @@ def test_kill_inside_a_load_transaction_writes_nothing(base, expected, tmp_path)
 def test_random_kills_of_rebuild_and_ingest(tmp_path):
     """Three trials of the harness (it runs 20 or more as a script, with measured spans)."""
     trials = run_trials(3, seed=11, work=tmp_path, log=lambda line: None,
-                        spans={"rebuild": 1.5, "ingest": 1.0})
-    assert [t.kind for t in trials] == ["rebuild", "ingest", "rebuild"]
+                        spans={"rebuild": 1.5, "ingest": 1.0, "resettle": 1.5})
+    assert [t.kind for t in trials] == ["rebuild", "ingest", "resettle"]
 
 
 def test_the_consistency_check_can_fail(base, tmp_path):
