@@ -72,26 +72,62 @@ def ballot_mask(votes: np.ndarray, opts: AgreementOptions) -> np.ndarray:
     return keep
 
 
+# Largest total weight for the √w route: each term then carries at most ~2⁻²² of rounding, so
+# a count's error stays far below ½ and rounding restores the exact whole number.
+ROOT_WEIGHT_LIMIT = 2**20
+
+
+def _gram(x: np.ndarray, w: np.ndarray | None, root_w: np.ndarray | None) -> np.ndarray:
+    """x·diag(w)·xᵀ. With √w it is (x·√w)(x·√w)ᵀ: one operand, so BLAS runs syrk (half the
+    work of gemm), then rounding to the whole number the count is."""
+    if w is None:
+        return x @ x.T
+    if root_w is None:
+        return (x * w) @ x.T
+    xw = x * root_w
+    out = xw @ xw.T
+    return np.rint(out, out=out)
+
+
 def agreement_counts(votes: np.ndarray, *, weights: np.ndarray | None = None,
                      abstain_as_position: bool = False) -> tuple[np.ndarray, np.ndarray]:
     """``(same, both)`` count matrices (float32, n × n) for one vote matrix.
 
-    ``weights`` (length b) multiplies each ballot's column, e.g. bootstrap counts.
+    ``weights`` (length b) multiplies each ballot's column, e.g. bootstrap counts. Whole-number
+    weights summing to at most :data:`ROOT_WEIGHT_LIMIT` go through √w, so each product is a
+    symmetric rank-k update (syrk, half the work), and the counts are rounded back to the whole
+    numbers they are; other weights take the plain product.
 
     >>> v = np.array([[1, 1, 2], [1, 2, 2]], dtype=np.int8)
     >>> same, both = agreement_counts(v)
     >>> same[0, 1], both[0, 1]
     (np.float32(2.0), np.float32(3.0))
+    >>> same, both = agreement_counts(v, weights=[3, 0, 1])
+    >>> same[0, 1], both[0, 1]
+    (np.float32(4.0), np.float32(4.0))
     """
-    pos = position_arrays(votes, abstain_as_position=abstain_as_position)
+    votes = np.asarray(votes)
     w = None if weights is None else np.asarray(weights, dtype=np.float32)
-    cast = sum(pos[1:], pos[0])
-    both = (cast if w is None else cast * w) @ cast.T
-    if len(pos) == 2:
-        signed = pos[0] - pos[1]
-        same = (both + (signed if w is None else signed * w) @ signed.T) * np.float32(0.5)
+    root_w = None
+    if w is not None and np.all(w >= 0) and np.all(w == np.round(w)) \
+            and float(w.sum(dtype=np.float64)) <= ROOT_WEIGHT_LIMIT:
+        root_w = np.sqrt(w)
+
+    def gram(x: np.ndarray) -> np.ndarray:
+        return _gram(x, w, root_w)
+
+    yes, no = votes == YES, votes == NO
+    cast = yes | no
+    if abstain_as_position:
+        cast |= votes == ABSTAIN
+    both = gram(cast.astype(np.float32))
+    if not abstain_as_position:
+        # S = Y − N: S_i·S_j is +1 where two members chose alike, −1 where they differ.
+        signed = yes.astype(np.float32)
+        np.subtract(signed, no, out=signed)
+        same = (both + gram(signed)) * np.float32(0.5)
     else:  # three positions: sum the per-position co-occurrences directly
-        same = sum((p if w is None else p * w) @ p.T for p in pos)
+        same = sum(gram((votes == c).astype(np.float32)) for c in (YES, NO, ABSTAIN))
     return same, both
 
 
