@@ -12,6 +12,7 @@ from .registry import FAMILIES, MetricValue, PeriodInput, compute_all, metric_na
 # isort: off
 from blocwatch.metrics import modularity, community, crossgroup, separability  # noqa: F401
 from blocwatch.metrics import reliability  # noqa: F401
+from blocwatch.metrics import cohesion, positions  # noqa: F401
 # isort: on
 # FAMILY-IMPORTS-END
 

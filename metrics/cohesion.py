@@ -2,7 +2,8 @@
 
 Every count is a matrix product of a one-hot member × group array with a 0/1 member × ballot
 array (``G.T @ (votes == YES)``), so no loop runs over members or ballots. Labels are
-non-negative ints; a label value with no member gets NaN in per-group outputs.
+any hashable group ids; per-group outputs follow their sorted order (codes 0..k−1, as
+:func:`blocwatch.metrics.validation.normalise_labels` assigns them).
 
 Conventions (stated once, used everywhere below):
 
@@ -16,29 +17,25 @@ Conventions (stated once, used everywhere below):
 from __future__ import annotations
 
 import numpy as np
+
 from blocwatch.metrics.registry import ABSTAIN, NO, YES, MetricValue, PeriodInput, register
+from blocwatch.metrics.validation import check_square, normalise_labels
 
 LINE_NONE, LINE_YES, LINE_NO = 0, 1, 2
 
 
 def _votes_labels(votes, labels) -> tuple[np.ndarray, np.ndarray, int]:
-    """Validate at the boundary: a 2-D code matrix and one non-negative int label per row."""
+    """Validate at the boundary: a 2-D code matrix and one group label per row (any hashable
+    labels, coded 0..k−1 in sorted order by :func:`normalise_labels`)."""
     votes = np.asarray(votes)
-    labels = np.asarray(labels)
     if votes.ndim != 2:
         raise ValueError(f"votes: expected a 2-D member × ballot array, received shape "
                          f"{votes.shape}; pass one row per member")
-    if labels.shape != (votes.shape[0],):
-        raise ValueError(f"labels: expected one label per member ({votes.shape[0]}), received "
-                         f"shape {labels.shape}; pass labels aligned with the vote rows")
+    codes, k = normalise_labels(labels, n=votes.shape[0])
     if votes.size and (votes.min() < 0 or votes.max() > ABSTAIN):
         raise ValueError(f"votes: expected codes 0..3 (MISSING, YES, NO, ABSTAIN), received "
                          f"values in {votes.min()}..{votes.max()}; recode the choices")
-    if labels.size and (not np.issubdtype(labels.dtype, np.integer) or labels.min() < 0):
-        raise ValueError("labels: expected non-negative integer group codes 0..k-1, received "
-                         f"dtype {labels.dtype}; map group names to codes first")
-    k = int(labels.max()) + 1 if labels.size else 0
-    return votes, labels.astype(np.int64), k
+    return votes, codes, k
 
 
 def _one_hot(labels: np.ndarray, k: int) -> np.ndarray:
@@ -74,11 +71,11 @@ def rice_index(votes, labels) -> np.ndarray:
     Parameters
     ----------
     votes : (n, b) int array of codes MISSING=0, YES=1, NO=2, ABSTAIN=3.
-    labels : (n,) non-negative int group codes.
+    labels : (n,) group of each member.
 
     Returns
     -------
-    (k,) float array, k = max(labels) + 1, values in [0, 1].
+    (k,) float array over the sorted distinct labels, values in [0, 1].
 
     Examples
     --------
@@ -109,7 +106,7 @@ def agreement_index(votes, labels) -> np.ndarray:
     Parameters
     ----------
     votes : (n, b) int array of codes MISSING=0, YES=1, NO=2, ABSTAIN=3.
-    labels : (n,) non-negative int group codes.
+    labels : (n,) group of each member.
 
     Returns
     -------
@@ -229,12 +226,9 @@ def group_agreement_matrix(agreement, labels) -> tuple[np.ndarray, np.ndarray]:
     Hix S, Noury A, Roland G (2007). Democratic Politics in the European Parliament, ch. 9
     (group-by-group coalition patterns).
     """
-    a = np.asarray(agreement, dtype=np.float64)
-    labels = np.asarray(labels)
-    if a.ndim != 2 or a.shape[0] != a.shape[1] or labels.shape != (a.shape[0],):
-        raise ValueError(f"agreement: expected a square (n, n) array with n = len(labels) = "
-                         f"{labels.shape}, received {a.shape}; pass the period's matrix")
-    _, labels, k = _votes_labels(np.zeros((a.shape[0], 0), np.int8), labels)
+    codes, k = normalise_labels(labels)
+    a = check_square(agreement, "agreement", n=codes.shape[0], allow_nan=True)
+    labels = codes
     valid = np.isfinite(a)
     np.fill_diagonal(valid, False)
     g = _one_hot(labels, k)
@@ -250,7 +244,7 @@ def group_agreement_matrix(agreement, labels) -> tuple[np.ndarray, np.ndarray]:
 def _size_weighted(values: np.ndarray, labels: np.ndarray) -> MetricValue:
     """Mean over groups of two or more members, weighted by group size (singletons excluded:
     a one-member group is trivially cohesive)."""
-    sizes = np.bincount(labels, minlength=values.size).astype(np.float64)
+    sizes = np.bincount(labels, minlength=values.size).astype(np.float64)[:values.size]
     ok = (sizes >= 2) & np.isfinite(values)
     if not ok.any():
         return MetricValue.missing("no group of two or more members cast a vote")
@@ -262,22 +256,24 @@ def _size_weighted(values: np.ndarray, labels: np.ndarray) -> MetricValue:
                   "group_line_share": (0.0, 1.0), "mean_loyalty": (0.0, 1.0)})
 def _cohesion_family(inp: PeriodInput) -> dict[str, MetricValue]:
     """Rice and AI: size-weighted mean over groups of ≥ 2 members; group-line share over the
-    period's ballots; loyalty: plain mean over members who had a group-line ballot."""
+    period's ballots; loyalty: plain mean over members who had a group-line ballot. Every
+    metric needs at least two groups (with one, "group cohesion" is the body's own)."""
     names = ("rice_mean", "agreement_index_mean", "group_line_share", "mean_loyalty")
+    codes, k = normalise_labels(inp.labels)
     if inp.votes is None:
         return {m: MetricValue.missing("needs the vote matrix, which was not available")
                 for m in names}
-    votes, labels = np.asarray(inp.votes), np.asarray(inp.labels)
+    votes = np.asarray(inp.votes)
     if votes.shape[0] == 0 or votes.shape[1] == 0:
         return {m: MetricValue.missing("no members or no ballots in this period") for m in names}
-    out = {"rice_mean": _size_weighted(rice_index(votes, labels), labels),
-           "agreement_index_mean": _size_weighted(agreement_index(votes, labels), labels)}
-    if np.unique(labels).size < 2:
-        why = "needs at least two groups; this period has one"
-        out["group_line_share"] = out["mean_loyalty"] = MetricValue.missing(why)
-        return out
-    out["group_line_share"] = MetricValue(float(group_line_ballots(votes, labels).mean()))
-    loyal = loyalty(votes, labels)
-    out["mean_loyalty"] = (MetricValue(float(np.nanmean(loyal))) if np.isfinite(loyal).any()
-                           else MetricValue.missing("no member voted on a group-line ballot"))
-    return out
+    if k < 2:
+        return {m: MetricValue.missing("needs at least two groups; this period has one")
+                for m in names}
+    loyal = loyalty(votes, codes)
+    return {
+        "rice_mean": _size_weighted(rice_index(votes, codes), codes),
+        "agreement_index_mean": _size_weighted(agreement_index(votes, codes), codes),
+        "group_line_share": MetricValue(float(group_line_ballots(votes, codes).mean())),
+        "mean_loyalty": (MetricValue(float(np.nanmean(loyal))) if np.isfinite(loyal).any()
+                         else MetricValue.missing("no member voted on a group-line ballot")),
+    }

@@ -186,31 +186,36 @@ def _value(compute) -> MetricValue:
     return MetricValue(value)
 
 
-_POSITION_METRICS = ("ideal_median_gap", "ideal_overlap", "ideal_bimodality", "mds_median_gap")
+_IDEAL_METRICS = ("ideal_median_gap", "ideal_overlap", "ideal_bimodality")
 
 
-@register("positions", _POSITION_METRICS,
-          bounds={m: (0.0, math.inf) for m in _POSITION_METRICS})
+@register("positions", _IDEAL_METRICS, bounds={m: (0.0, math.inf) for m in _IDEAL_METRICS},
+          expensive=True)
 def _positions_family(inp: PeriodInput) -> dict[str, MetricValue]:
-    """Ideal-point measures (from ``inp.votes``) and the MDS median gap (from agreement)."""
-    labels = np.asarray(inp.labels)
-    out: dict[str, MetricValue] = {}
+    """Median gap, overlap and bimodality of the period's probit ideal points (an EM fit per
+    call, hence ``expensive``)."""
+    codes, _ = normalise_labels(inp.labels)  # bad labels raise here, not as a note
     if inp.n == 0:
-        return {m: MetricValue.missing("no members in this period") for m in _POSITION_METRICS}
+        return {m: MetricValue.missing("no members in this period") for m in _IDEAL_METRICS}
     if inp.votes is None:
-        why = "needs the vote matrix, which was not available"
-        out.update({m: MetricValue.missing(why) for m in _POSITION_METRICS[:3]})
-    else:
-        try:
-            x = period_ideal_points(inp.votes).x
-        except ValueError as exc:
-            x = None
-            out.update({m: MetricValue.missing(str(exc)) for m in _POSITION_METRICS[:3]})
-        if x is not None:
-            out["ideal_median_gap"] = _value(lambda: median_distance(x, labels))
-            out["ideal_overlap"] = _value(lambda: overlap_count(x, labels))
-            out["ideal_bimodality"] = _value(lambda: bimodality_coefficient(x))
-    out["mds_median_gap"] = _value(
-        lambda: median_distance(classical_mds(agreement_distances(inp.agreement), 1)[:, 0],
-                                labels))
-    return out
+        return {m: MetricValue.missing("needs the vote matrix, which was not available")
+                for m in _IDEAL_METRICS}
+    try:
+        x = period_ideal_points(inp.votes).x
+    except ValueError as exc:
+        return {m: MetricValue.missing(str(exc)) for m in _IDEAL_METRICS}
+    return {"ideal_median_gap": _value(lambda: median_distance(x, codes)),
+            "ideal_overlap": _value(lambda: overlap_count(x, codes)),
+            "ideal_bimodality": _value(lambda: bimodality_coefficient(x))}
+
+
+@register("positions_mds", ("mds_median_gap",), bounds={"mds_median_gap": (0.0, math.inf)})
+def _mds_family(inp: PeriodInput) -> dict[str, MetricValue]:
+    """Median gap on the first classical-MDS axis of 1 − agreement (NaN pairs imputed)."""
+    codes, k = normalise_labels(inp.labels)
+    if inp.n == 0:
+        return {"mds_median_gap": MetricValue.missing("no members in this period")}
+    if k < 2:
+        return {"mds_median_gap": MetricValue.missing("needs two groups; this period has one")}
+    return {"mds_median_gap": _value(lambda: median_distance(
+        classical_mds(agreement_distances(inp.agreement), 1)[:, 0], codes))}

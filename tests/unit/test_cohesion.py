@@ -4,9 +4,10 @@ from fractions import Fraction
 
 import numpy as np
 import pytest
+from sklearn.metrics import cohen_kappa_score
+
 from blocwatch.metrics import cohesion
 from blocwatch.metrics.registry import ABSTAIN, MISSING, NO, YES, PeriodInput
-from sklearn.metrics import cohen_kappa_score
 
 Y, N, A, M = YES, NO, ABSTAIN, MISSING
 # METHODS §0 toy roll call: rows A1 A2 A3 B1 B2 B3, columns v1..v4.
@@ -77,10 +78,10 @@ def test_rice_ignores_abstentions_and_skips_empty_ballots():
     assert cohesion.rice_index(votes, [0, 0, 0, 0])[0] == pytest.approx(1 / 3)
 
 
-def test_group_without_votes_or_members_is_nan():
-    votes = np.array([[Y], [M]], dtype=np.int8)
-    rice = cohesion.rice_index(votes, [0, 2])  # label 1 has no member, group 2 never voted
-    assert rice[0] == 1.0 and np.isnan(rice[1]) and np.isnan(rice[2])
+def test_group_without_votes_is_nan_and_labels_are_sorted_codes():
+    votes = np.array([[Y], [M], [N], [N]], dtype=np.int8)
+    rice = cohesion.rice_index(votes, ["x", "b", "x", "x"])  # "b" never voted; "x" 1Y/2N
+    assert np.isnan(rice[0]) and rice[1] == pytest.approx(1 / 3)
 
 
 def test_even_split_and_abstain_majority_have_no_line():
@@ -114,7 +115,7 @@ def test_group_agreement_matrix_skips_nan_pairs():
 def test_bad_codes_raise_with_fix():
     with pytest.raises(ValueError, match="codes 0..3"):
         cohesion.rice_index(np.array([[5]]), [0])
-    with pytest.raises(ValueError, match="one label per member"):
+    with pytest.raises(ValueError, match="one per member"):
         cohesion.rice_index(TOY, [0, 1])
 
 
@@ -157,6 +158,8 @@ def test_family_degenerate_inputs_give_notes():
     out = cohesion._cohesion_family(_inp(None, [0, 1]))
     assert all(not v.ok and "vote matrix" in v.note for v in out.values())
     one = cohesion._cohesion_family(_inp(TOY, np.zeros(6, int)))
-    assert one["rice_mean"].ok and "two groups" in one["group_line_share"].note
+    assert all(not v.ok and "two groups" in v.note for v in one.values())
+    with pytest.raises(ValueError, match="labels"):
+        cohesion._cohesion_family(_inp(TOY, np.array([0, 0, 0, 1, 1, np.nan])))
     empty = cohesion._cohesion_family(_inp(np.zeros((0, 0), np.int8), np.zeros(0, int)))
     assert all(not v.ok for v in empty.values())

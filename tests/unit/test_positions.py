@@ -80,13 +80,17 @@ def _inp(votes, labels, agreement=None):
                        edges=np.zeros((n, n), bool), votes=votes)
 
 
+def _both(inp):
+    return {**positions._positions_family(inp), **positions._mds_family(inp)}
+
+
 def test_family_rises_with_planted_separation():
     # Planted truth (own generator): the median gaps must rank the separations (Spearman ≥ 0.9).
     seps = [0.0, 0.5, 1.0, 1.5, 2.0, 2.5, 3.0, 3.5]
     ideal, mds = [], []
     for i, sep in enumerate(seps):
         votes, _, groups = spatial_votes(n=40, b=80, separation=sep, seed=100 + i)
-        out = positions._positions_family(_inp(votes, groups))
+        out = _both(_inp(votes, groups))
         ideal.append(out["ideal_median_gap"].value)
         mds.append(out["mds_median_gap"].value)
         assert out["ideal_bimodality"].ok and out["ideal_overlap"].ok
@@ -97,8 +101,8 @@ def test_family_rises_with_planted_separation():
 def test_family_invariant_to_relabelling():
     votes, _, groups = spatial_votes(n=30, b=60, seed=9)
     perm = np.random.default_rng(2).permutation(30)
-    base = positions._positions_family(_inp(votes, groups))
-    other = positions._positions_family(_inp(votes[perm], (1 - groups)[perm]))
+    base = _both(_inp(votes, groups))
+    other = _both(_inp(votes[perm], (1 - groups)[perm]))
     for m, v in base.items():
         assert other[m].value == pytest.approx(v.value, rel=1e-3, abs=1e-3), m
 
@@ -106,12 +110,12 @@ def test_family_invariant_to_relabelling():
 def test_family_notes_for_small_groups_missing_votes_and_empty():
     votes, _, _ = spatial_votes(n=10, b=40, seed=3)
     labels = np.array([0] * 8 + [1] * 2)  # second group too small for a median
-    out = positions._positions_family(_inp(votes, labels))
+    out = _both(_inp(votes, labels))
     assert not out["ideal_median_gap"].ok and "too small" in out["ideal_median_gap"].note
     assert not out["mds_median_gap"].ok and out["ideal_bimodality"].ok
-    no_votes = positions._positions_family(_inp(None, labels, agreement=np.eye(10)))
+    no_votes = _both(_inp(None, labels, agreement=np.eye(10)))
     assert "vote matrix" in no_votes["ideal_overlap"].note
-    empty = positions._positions_family(_inp(np.zeros((0, 0), np.int8), np.zeros(0, int),
+    empty = _both(_inp(np.zeros((0, 0), np.int8), np.zeros(0, int),
                                              agreement=np.zeros((0, 0))))
     assert all(not v.ok for v in empty.values())
 
