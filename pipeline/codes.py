@@ -140,10 +140,10 @@ def load_mapping(path: str | Path) -> dict[str, str]:
                                 f"{len(header)}", "give each row a raw code and a choice")
         key, choice = normalise(row[i_raw]), normalise(row[i_choice])
         if choice not in CHOICES:
-            raise BadInputError(f"{path}:{line}, column choice", f"{show(row[i_choice])} is not "
+            raise BadInputError(f"{path}:{line}, column 'choice'", f"{show(row[i_choice])} is not "
                                 "a choice", f"use one of {', '.join(CHOICES)}")
         if key in mapping and mapping[key] != choice:
-            raise BadInputError(f"{path}:{line}, column raw",
+            raise BadInputError(f"{path}:{line}, column 'raw'",
                                 f"code {show(row[i_raw])} maps to {choice} here and to "
                                 f"{mapping[key]} on line {first_line[key]}",
                                 "keep one row per code")

@@ -8,6 +8,7 @@ is grouped once. Ballots are reduced to ``_bw_b{k}`` (one row per ballot and dis
 
 from __future__ import annotations
 
+from blocwatch.pipeline.codes import normalise
 from blocwatch.pipeline.safety import show
 from blocwatch.pipeline.store import Store
 from blocwatch.pipeline.validate import EXAMPLES, Problem, Problems, add_row_problem
@@ -114,10 +115,15 @@ def store_conflicts(store: Store, votes: str, staged_by_k: dict, problems: Probl
                           WHERE v.choice <> n.choice ORDER BY n.k, n.rid LIMIT {EXAMPLES}""")
     for i, (k, rid, ballot, member, old, new, raw) in enumerate(rows):
         add_row_problem(problems, staged_by_k[k], "conflict", rid, "raw", raw,
-                        f"member {show(member)} votes {new} on ballot {show(ballot)} here, but "
-                        f"the store holds {old}", "pass --replace to overwrite the stored votes of "
-                        "the ballots in this file, or correct the file",
+                        f"member {show(member)} votes {_vote(raw, new)} on ballot {show(ballot)} "
+                        f"here, but the store holds {old}", "pass --replace to overwrite the "
+                        "stored votes of the ballots in this file, or correct the file",
                         count=(n - len(rows) + 1) if i == len(rows) - 1 else 1)
+
+
+def _vote(raw, choice: str) -> str:
+    """``'Aye' (yes)``, or just ``'no'`` when the code is the choice itself."""
+    return show(raw) if normalise(raw) == choice else f"{show(raw)} ({choice})"
 
 
 def resolve_ballots(store: Store, vote_ballots: list[str], file_ballots: str | None,

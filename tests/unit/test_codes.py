@@ -81,12 +81,12 @@ def test_mapping_one_code_two_choices_names_both_lines(tmp_path):
     path.write_text("raw,choice\nja,yes\n\nnein,no\nJA,no\n", encoding="utf-8")
     with pytest.raises(BadInputError) as err:
         load_mapping(path)
-    assert f"{path}:5, column raw" in str(err.value)
+    assert f"{path}:5, column 'raw'" in str(err.value)
     assert "maps to no here and to yes on line 2" in str(err.value)
 
 
 @pytest.mark.parametrize("content,where,says", [
-    ("raw,choice\nja,maybe\n", ":2, column choice", "'maybe' is not a choice"),
+    ("raw,choice\nja,maybe\n", ":2, column 'choice'", "'maybe' is not a choice"),
     ("code,choice\nja,yes\n", ":1", "lacks the columns raw and choice"),
     ("raw,choice\nja\n", ":2", "has 1 fields, the header 2"),
     ("", "", "is empty"),
