@@ -35,8 +35,8 @@ def generate(path: Path, rows: int, fmt: str) -> None:
                CAST(DATE '1990-01-01' + CAST(i // {MEMBERS * BALLOTS_PER_DAY} AS INTEGER)
                     AS VARCHAR) AS date,
                'M' || lpad(CAST(i % {MEMBERS} AS VARCHAR), 4, '0') AS member_id,
-               ['Aye', 'No', 'yes', 'nay', 'Abstain', 'absent', 'Y', 'N'][CAST(1 + hash(i) % 8 AS BIGINT)]
-                   AS vote,
+               ['Aye', 'No', 'yes', 'nay', 'Abstain', 'absent', 'Y', 'N']
+                   [CAST(1 + hash(i) % 8 AS BIGINT)] AS vote,
                ['Heron Bloc', 'Quarry Union', 'Sable Front', 'Meadow List'][1 + (i % {MEMBERS}) % 4]
                    AS "group"
         FROM range({rows}) t(i)"""
