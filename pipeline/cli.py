@@ -346,6 +346,8 @@ def rebuild(ctx, store_path, body, full, out, with_report, images, **flags):
                          progress=_progress(ctx, "rebuild"))
     for src in result.ingested:
         click.echo(f"loaded: {src.path} ({src.state})")
+    for note in result.notes:
+        click.echo(f"note: {note}", err=True)
     click.echo(result.summary())
     if result.outputs:
         click.echo(f"wrote {len(result.outputs)} file(s) to {out_dir}")

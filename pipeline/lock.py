@@ -30,8 +30,9 @@ _RECORD_WAIT = 1.0
 
 
 def lock_path(store_path: str | Path) -> Path:
-    """The lock file that guards ``store_path``."""
-    return Path(f"{store_path}.lock")
+    """The lock file that guards ``store_path`` (resolved, so every path to the store, relative
+    or through a symbolic link, names the same lock)."""
+    return Path(f"{Path(store_path).resolve()}.lock")
 
 
 def _read_record(fd: int) -> dict:

@@ -75,6 +75,7 @@ class RebuildReport:
     stale: list[Stale] = field(default_factory=list)
     build: BuildReport | None = None
     outputs: list[Path] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)
 
     @property
     def nothing_to_do(self) -> bool:
@@ -248,10 +249,15 @@ def rebuild(store_path: str | Path, *, options: BuildOptions | None = None,
             report.sources = scan_sources(store, cfg, body)
             pending = [s for s in report.sources if s.state != "loaded"]
             report.ingested = _ingest(store, cfg, pending) if pending else []
-            if not cfg.bodies and not store.scalar("SELECT count(*) FROM bodies"):
-                raise UsageError("rebuild", "no bodies are configured and the store is empty",
-                                 "add a [bodies.\"Name\"] table with sources to blocwatch.toml "
-                                 "(see 'blocwatch init')")
+            empty = [n for n in _config_bodies(cfg, body)
+                     if not any(s.body == n and s.kind == "votes" for s in report.sources)]
+            report.notes = [f"bodies.{n}.sources matches no file yet" for n in empty]
+            if not store.scalar("SELECT count(*) FROM ballots"):
+                where = (f"the sources of {', '.join(empty)} match no file" if empty else
+                         "no bodies are configured")
+                raise UsageError("rebuild", f"the store is empty and {where}",
+                                 "put the ballot files where the [bodies] sources globs point "
+                                 "(paths relative to blocwatch.toml; see 'blocwatch init')")
             report.stale = stale_periods(store, opts, body)
             if full or report.stale:
                 inputs = {"files": {str(s.path): s.sha256 for s in report.ingested},
