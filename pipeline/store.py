@@ -315,7 +315,7 @@ class Store:
             self.con.execute(f"CREATE OR REPLACE TEMP TABLE {name} AS {sql}", params or [])
         except duckdb.Error as exc:
             raise ReadError(exc) from exc
-        return int(self.con.execute(f"SELECT count(*) FROM {name}").fetchone()[0])
+        return int(self.con.execute(f"SELECT count(*) FROM {name}").fetchall()[0][0])
 
     def stage_rows(self, name: str, sql: str, params: Sequence[Any] | dict | None = None) -> int:
         """Like :meth:`stage`, with a column ``rid``: 0, 1, … in the order ``sql`` yields rows.
@@ -325,7 +325,7 @@ class Store:
         """
         check_stage(name)
         rows = self.stage(f"{name}_t", sql, params)
-        base = self.con.execute(f"SELECT coalesce(min(rowid), 0) FROM {name}_t").fetchone()[0]
+        base = self.con.execute(f"SELECT coalesce(min(rowid), 0) FROM {name}_t").fetchall()[0][0]
         self.con.execute(f"CREATE OR REPLACE TEMP VIEW {name} AS "
                          f"SELECT rowid - {int(base)} AS rid, * FROM {name}_t")
         return rows
