@@ -17,17 +17,24 @@ from blocwatch.pipeline.validate import EXAMPLES, Problem, Problems, add_row_pro
 def reduce_votes(store: Store, staged, k: int, problems: Problems) -> str:
     """``_bw_v{k}``: the file's votes, one row per key; contradicting duplicates are problems."""
     table = f"_bw_v{k}"
+    # Scored answers (blocwatch.pipeline.scale_load) take precedence over the code table; a
+    # binary-only load skips that join. min <> max counts "more than one choice" without the
+    # cost of count(DISTINCT).
+    scored = bool(store.scalar("SELECT count(*) FROM (SELECT 1 FROM _bw_answers LIMIT 1)"))
+    choice = "coalesce(a.choice, c.choice)" if scored else "c.choice"
+    answers = """LEFT JOIN _bw_answers a ON a.body = t.body AND a.ballot_id = t.ballot_id
+             AND a.raw = coalesce(t.raw, '')
+        LEFT JOIN _bw_codes c ON c.raw = coalesce(t.raw, '') AND a.choice IS NULL""" if scored \
+        else "JOIN _bw_codes c ON c.raw = coalesce(t.raw, '')"
     store.stage(table, f"""
         SELECT t.body, t.ballot_id, t.member_id, arg_min(t.raw, t.rid) AS raw,
-               min(coalesce(a.choice, c.choice)) AS choice,
-               count(DISTINCT coalesce(a.choice, c.choice)) AS n_choices,
+               min({choice}) AS choice,
+               CASE WHEN min({choice}) = max({choice}) THEN 1 ELSE 2 END AS n_choices,
                min(t.rid) AS rid, CAST({k} AS INTEGER) AS k
         FROM {staged.table} t
-        LEFT JOIN _bw_answers a ON a.body = t.body AND a.ballot_id = t.ballot_id
-             AND a.raw = coalesce(t.raw, '')
-        LEFT JOIN _bw_codes c ON c.raw = coalesce(t.raw, '') AND a.choice IS NULL
+        {answers}
         WHERE t.body IS NOT NULL AND t.ballot_id IS NOT NULL AND t.member_id IS NOT NULL
-              AND coalesce(a.choice, c.choice) IS NOT NULL
+              AND {choice} IS NOT NULL
         GROUP BY t.body, t.ballot_id, t.member_id""")
     n, = store.rows(f"SELECT count(*) FROM {table} WHERE n_choices > 1")[0]
     if n:

@@ -51,6 +51,7 @@ from blocwatch.pipeline.validate import (
 )
 
 LAYOUTS = ("long", "wide")
+_K = 1 << 40  # packs (file k, row) into one sortable BIGINT
 
 
 @dataclass
@@ -345,8 +346,11 @@ class _Load:
         else:
             merged = pd.DataFrame(columns=roster.SPELL_COLUMNS)
             affected = pd.DataFrame(columns=["body", "member_id"])
+        # Spells derived from a group column cover every vote that gave a group, by construction.
+        covered = not rosters and len(grouped) == len(votes) and not any(
+            s.nulls.get("group_name") for s in grouped.values())
         if combined:
-            self._coverage(stored, merged, affected, combined, bal)
+            self._coverage(stored, merged, affected, combined, bal, derived_only=covered)
         return merged, affected
 
     def _observations(self, grouped: dict[int, Staged], bal: str) -> str | None:
@@ -357,9 +361,13 @@ class _Load:
                            AND b.held_on IS NOT NULL GROUP BY ALL""" for k, s in grouped.items()]
         self.store.stage("_bw_obs_all", " UNION ALL ".join(parts))
         for member, day, groups, ks, rids in self.store.rows(f"""
-                SELECT member_id, held_on, list(group_name ORDER BY rid), list(k ORDER BY rid),
-                       list(rid ORDER BY rid) FROM _bw_obs_all GROUP BY body, member_id, held_on
-                HAVING count(DISTINCT group_name) > 1 ORDER BY min(rid) LIMIT {EXAMPLES}"""):
+                WITH bad AS (SELECT body, member_id, held_on FROM _bw_obs_all
+                             GROUP BY body, member_id, held_on
+                             HAVING min(group_name) <> max(group_name) LIMIT {EXAMPLES})
+                SELECT o.member_id, o.held_on, list(o.group_name ORDER BY o.rid),
+                       list(o.k ORDER BY o.rid), list(o.rid ORDER BY o.rid)
+                FROM _bw_obs_all o JOIN bad USING (body, member_id, held_on)
+                GROUP BY o.body, o.member_id, o.held_on ORDER BY min(o.rid)"""):
             i = next(i for i, g in enumerate(groups) if g != groups[0])
             add_row_problem(self.problems, self.staged[ks[i]], "member", rids[i], "group_name",
                             groups[i], f"member {show(member)} is in group {show(groups[i])} "
@@ -383,7 +391,8 @@ class _Load:
                             f"in {show(want)} in the roster", "make the votes file and the "
                             "roster agree, or leave the group column out")
 
-    def _coverage(self, stored, merged, affected, combined: str, bal: str) -> None:
+    def _coverage(self, stored, merged, affected, combined: str, bal: str, *,
+                  derived_only: bool) -> None:
         """Members without any group, and cast votes outside every spell (when groups exist)."""
         keep = stored.merge(affected, on=["body", "member_id"], how="left", indicator=True)
         keep = keep[keep["_merge"] == "left_only"].drop(columns="_merge")
@@ -391,6 +400,8 @@ class _Load:
         if final.empty:
             self.notes.append("note: no groups are known for this body yet — load a roster "
                               "with --members (or a group column) before 'blocwatch build'")
+            return
+        if derived_only:
             return
         frame = final[roster.SPELL_COLUMNS].copy()
         frame["valid_from"] = pd.to_datetime(frame["valid_from"].astype(str))
@@ -408,15 +419,19 @@ class _Load:
                             f"member {show(member)} is not in the roster (no group known)",
                             "add the member to the roster file (--members), or give the votes "
                             "file a group column", count=n)
+        # One row per member and date first (members x dates, not votes), then the spell test.
         uncovered = self.store.rows(f"""
-            SELECT n.k, n.rid, n.member_id, b.held_on FROM {combined} n JOIN {bal} b
-            ON b.body = n.body AND b.ballot_id = n.ballot_id
-            WHERE n.choice <> 'absent' AND b.held_on IS NOT NULL
-              AND NOT list_contains(?, n.member_id) AND EXISTS (SELECT 1 FROM _bw_spells s WHERE
-              s.body = n.body AND s.member_id = n.member_id) AND NOT EXISTS (SELECT 1 FROM
-              _bw_spells s WHERE s.body = n.body AND s.member_id = n.member_id AND
-              b.held_on BETWEEN CAST(s.valid_from AS DATE) AND CAST(s.valid_to AS DATE))
-            ORDER BY n.k, n.rid LIMIT {EXAMPLES}""", [sorted(self.bad_members)])
+            WITH d AS (SELECT n.body, n.member_id, b.held_on,
+                              min(n.k * {_K} + n.rid) AS key FROM {combined} n JOIN {bal} b
+                       ON b.body = n.body AND b.ballot_id = n.ballot_id
+                       WHERE n.choice <> 'absent' AND b.held_on IS NOT NULL
+                       GROUP BY n.body, n.member_id, b.held_on)
+            SELECT key // {_K}, key % {_K}, member_id, held_on FROM d
+            WHERE NOT list_contains(?, member_id) AND EXISTS (SELECT 1 FROM _bw_spells s
+              WHERE s.body = d.body AND s.member_id = d.member_id) AND NOT EXISTS (SELECT 1
+              FROM _bw_spells s WHERE s.body = d.body AND s.member_id = d.member_id AND
+              d.held_on BETWEEN CAST(s.valid_from AS DATE) AND CAST(s.valid_to AS DATE))
+            ORDER BY key LIMIT {EXAMPLES}""", [sorted(self.bad_members)])
         for k, rid, member, day in uncovered:
             add_row_problem(self.problems, self.staged[k], "member", rid, "member_id", member,
                             f"member {show(member)} votes on {day} but has no group on that "
@@ -437,9 +452,9 @@ class _Load:
     def _counts(self, votes: dict[int, Staged], bal: str) -> None:
         for k, s in self.staged.items():
             r = self.results[k]
-            if s.kind in ("votes", "ballots"):
+            if s.kind in ("votes", "ballots"):  # from the small per-ballot table
                 r.ballots = int(self.store.scalar(f"SELECT count(DISTINCT (body, ballot_id)) "
-                                                  f"FROM {s.table}"))
+                                                  f"FROM _bw_b{k}"))
             if s.kind in ("votes", "roster"):
                 r.members = int(self.store.scalar(f"SELECT count(DISTINCT (body, member_id)) "
                                                   f"FROM {s.table}"))

@@ -83,6 +83,7 @@ class Staged:
     rows: int
     sha256: str
     placer: Placer = field(repr=False, default=lambda rid, col: (None, None, col))
+    nulls: dict[str, int] = field(default_factory=dict)  # blank values per column (checks)
 
     def place(self, rid: int, column: str | None) -> tuple[int | None, str | None, str | None]:
         """(line, where, column header) of staged row ``rid`` for a message."""

@@ -178,6 +178,7 @@ def check_values(store, staged, *, required: tuple[str, ...], problems: Problems
     row = store.rows(f"SELECT {', '.join(exprs)} FROM {staged.table}")[0]
     for i, c in enumerate(cols):
         n_long, r_long, n_null, r_null = row[4 * i: 4 * i + 4]
+        staged.nulls[c] = n_null
         if n_long:
             value = store.scalar(f"SELECT {c} FROM {staged.table} WHERE rid = ?", [r_long])
             add_row_problem(problems, staged, "long", r_long, c, value,

@@ -24,6 +24,7 @@ class Staged:
         store.stage_rows(self.table, f"SELECT * FROM (VALUES {values}) AS t({cols})", params)
         self.name, self.layout = "votes.csv", "long"
         self.headers = {c: c.upper() for c in columns}
+        self.nulls = {}
 
     def place(self, rid, column):
         return rid + 2, None, self.headers.get(column, column)
