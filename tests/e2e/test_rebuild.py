@@ -140,3 +140,31 @@ def test_build_and_ingest_take_the_lock_too(built):
         # status does not wait or fail: it names the holder
         out = _ok(cli_here("status", project=built)).stdout
         assert "held by a run in progress" in out and "'test-holder'" in out
+
+
+def _move_member(project):
+    """M001 leaves Upland Compact for Lantern Circle in mid-2002 (an edit of the roster)."""
+    roster = project / "data" / "roster.csv"
+    old = "M001,Nessa Rooksby,Upland Compact,2001-01-01,2004-12-31"
+    text = roster.read_text()
+    assert old in text
+    roster.write_text(text.replace(old, "M001,Nessa Rooksby,Upland Compact,2001-01-01,"
+                                        "2002-06-30\nM001,Nessa Rooksby,Lantern Circle,"
+                                        "2002-07-01,2004-12-31"))
+
+
+def test_changed_roster_recomputes_the_periods_it_touches(built, tmp_path):
+    project = tmp_path / "p"
+    shutil.copytree(built, project)
+    store = project / "blocwatch.duckdb"
+    _move_member(project)
+    out = _ok(cli_here("rebuild", "--no-report", project=project))
+    assert f"loaded: {project / 'data' / 'roster.csv'} (changed)" in out.stdout
+    recomputed = {p for _, p in _recomputed(store)[-1]}
+    # 2001 is untouched; 2003 holds only the new spell; 2002 holds both halves
+    assert str(FIRST_YEAR + 2) in recomputed and str(FIRST_YEAR) not in recomputed
+    assert recomputed <= {str(FIRST_YEAR + 1), str(FIRST_YEAR + 2)}
+    fresh = make_project(tmp_path / "fresh", 3)
+    _move_member(fresh)
+    _ok(cli_here("rebuild", "--no-report", project=fresh))
+    assert_same(contents(fresh / "blocwatch.duckdb"), contents(store))
