@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import json
-from collections.abc import Callable, Iterable, Iterator
+from collections.abc import Callable, Collection, Iterable, Iterator
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -120,13 +120,16 @@ def _period_matrices(store: Store, body: str, periods: list[Period], opts: Build
 def build(store: Store, *, body: str | None = None, options: BuildOptions | None = None,
           only_changed: bool = False, progress: Callable[[str], None] | None = None,
           command: str = "build", executor: ExecutorSpec | Executor | None = None,
-          inputs: dict | None = None) -> BuildReport:
+          inputs: dict | None = None, only: Collection[tuple[str, str]] | None = None
+          ) -> BuildReport:
     """Compute every period of every (or one) body and store the results.
 
     With ``only_changed`` a period whose fingerprint equals the stored one is skipped.
     ``executor`` says where periods are computed (:mod:`blocwatch.pipeline.executors`;
     default: serially in this process); an open :class:`Executor` is used and left open.
     ``inputs`` (e.g. the files a rebuild loaded, with their sha256) goes into ``runs.inputs``.
+    ``only`` limits the work to these (body, period) pairs (a rebuild's stale list, so the
+    other periods' votes are not read again); the rest are kept and counted as skipped.
     """
     opts = options or BuildOptions()
     version = tool_version()
@@ -141,7 +144,9 @@ def build(store: Store, *, body: str | None = None, options: BuildOptions | None
                                      [b]))
             # Matrices are read one at a time as the executor asks for them (streamed);
             # results come back in period order and are written here, the single writer.
-            jobs = _period_matrices(store, b, periods, opts, version,
+            todo = periods if only is None else [p for p in periods if (b, p.name) in only]
+            report.skipped += [(b, p.name) for p in periods if p not in todo and p.name in stored]
+            jobs = _period_matrices(store, b, todo, opts, version,
                                     stored if only_changed else None, report)
             for res, seconds in pool.map(PeriodJob(opts, version), jobs):
                 write_period(store, run_id, res)

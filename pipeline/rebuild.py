@@ -262,8 +262,10 @@ def rebuild(store_path: str | Path, *, options: BuildOptions | None = None,
             if full or report.stale:
                 inputs = {"files": {str(s.path): s.sha256 for s in report.ingested},
                           "stale": [[s.body, s.period, s.reason] for s in report.stale]}
+                only = None if full else {(s.body, s.period) for s in report.stale}
                 report.build = build(store, body=body, options=opts, only_changed=not full,
-                                     progress=progress, command="rebuild", inputs=inputs)
+                                     progress=progress, command="rebuild", inputs=inputs,
+                                     only=only)
             newest = results_run(store)
         if write_outputs is not None and out is not None and newest is not None and (
                 full or not outputs_current(out, newest)):
