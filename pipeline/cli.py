@@ -188,19 +188,28 @@ def build_flags(func):
 @click.option("--scheduler", default=None, metavar="ADDRESS",
               help="Dask scheduler, e.g. tcp://10.0.0.5:8786 (default with --executor dask: a "
                    "local cluster of --jobs workers).")
+@click.option("--partitions", type=click.Path(file_okay=False), default=None, metavar="DIR",
+              help="Read each period from DIR/body=…/period=…/votes.parquet (workers read it "
+                   "directly; results go to DIR/_results) instead of the store's ballots.")
 @click.pass_context
 @handle_errors
-def build(ctx, store_path, body, jobs, executor, scheduler, **flags):
+def build(ctx, store_path, body, jobs, executor, scheduler, partitions, **flags):
     """Compute every period's agreement graph and metrics and store them."""
     from blocwatch.pipeline.build import build as run_build
     from blocwatch.pipeline.executors import ExecutorSpec
     from blocwatch.pipeline.lock import locked_store
+    from blocwatch.pipeline.partitions import build_partitions
 
     opts = build_options(**flags)
     where = ExecutorSpec(executor, jobs=jobs, scheduler=scheduler)
     with locked_store(resolve_store(store_path), "build") as store:
-        report = run_build(store, body=body, options=opts, progress=_progress(ctx, "build"),
-                           executor=where)
+        if partitions:
+            report = build_partitions(store, partitions, Path(partitions) / "_results",
+                                      options=opts, executor=where,
+                                      progress=_progress(ctx, "build"))
+        else:
+            report = run_build(store, body=body, options=opts,
+                               progress=_progress(ctx, "build"), executor=where)
     click.echo(f"run {report.run_id}: {len(report.periods)} period(s) computed")
 
 

@@ -166,7 +166,7 @@ class DaskExecutor(Executor):
             else:
                 self._cluster = distributed.LocalCluster(
                     n_workers=spec.jobs, threads_per_worker=1, processes=True,
-                    dashboard_address=None)
+                    dashboard_address=":0")  # any free port: never clash with a running one
                 self._client = distributed.Client(self._cluster)
         except (OSError, TimeoutError) as exc:
             raise UsageError(f"scheduler {spec.scheduler!r}", f"cannot be reached ({exc})",

@@ -87,7 +87,7 @@ def test_dask_local_cluster_matches_serial(serial, demo_files, tmp_path):
     from distributed import LocalCluster
 
     with LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
-                      dashboard_address=None) as cluster:
+                      dashboard_address=":0") as cluster:
         spec = ExecutorSpec("dask", jobs=2, scheduler=cluster.scheduler_address)
         _assert_same(serial, _run(tmp_path, demo_files, spec))
 
@@ -111,3 +111,70 @@ def test_open_executor_is_reused_and_left_open(serial, demo_files, tmp_path):
 def test_bad_executor_specs_are_usage_errors(kwargs, word):
     with pytest.raises(UsageError, match=word):
         ExecutorSpec(**kwargs)
+
+
+def _partition_build(tmp_path, files, executor) -> dict[str, pd.DataFrame]:
+    """Vote partitions written from a loaded store, computed by workers into result
+    partitions, merged into a second store that holds no ballots at all."""
+    from blocwatch.pipeline.partitions import build_partitions, write_vote_partitions
+
+    with _store(tmp_path, files) as source:
+        written = write_vote_partitions(source, tmp_path / "lake")
+    assert sorted(p.name for p in written) == [f"period={y}" for y in sorted(YEARS)]
+    assert all(p.parent.name == "body=Assembly%20of%20Marrow%20Sound" for p in written)
+    with Store(tmp_path / "results.duckdb") as store:
+        report = build_partitions(store, tmp_path / "lake", tmp_path / "out", options=OPTS,
+                                  executor=executor)
+        assert [p for _, p in report.periods] == sorted(YEARS)
+        assert (tmp_path / "out" / written[0].parent.name / written[0].name /
+                "metrics.parquet").exists()
+        return _results(store)
+
+
+def test_partitions_match_store_build(serial, demo_files, tmp_path):
+    _assert_same(serial, _partition_build(tmp_path, demo_files, None))
+
+
+def test_partitions_on_dask_match_store_build(serial, demo_files, tmp_path):
+    pytest.importorskip("distributed")
+    _assert_same(serial, _partition_build(tmp_path, demo_files, ExecutorSpec("dask", jobs=2)))
+
+
+def test_partition_folder_errors(tmp_path):
+    from blocwatch.pipeline.partitions import list_partitions, read_partition
+
+    with pytest.raises(UsageError, match="does not exist"):
+        list_partitions(tmp_path / "nowhere")
+    folder = tmp_path / "body=X" / "period=2001"
+    folder.mkdir(parents=True)
+    pd.DataFrame({"member_id": ["a"], "choice": ["yes"]}).to_parquet(folder / "votes.parquet")
+    assert list_partitions(tmp_path) == [("X", "2001", folder)]
+    from blocwatch.pipeline.errors import BadInputError
+
+    with pytest.raises(BadInputError, match="lacks column"):
+        read_partition(folder, "X", "2001")
+
+
+def test_cli_build_flags(demo_files, tmp_path):
+    """``build --jobs 2`` and ``build --partitions DIR`` through the command line."""
+    from click.testing import CliRunner
+
+    from blocwatch.pipeline.cli import cli
+    from blocwatch.pipeline.partitions import write_vote_partitions
+
+    flags = ["--bootstrap", "2", "--permutations", "2", "--expensive-replicates", "1"]
+    with _store(tmp_path, demo_files) as store:
+        write_vote_partitions(store, tmp_path / "lake")
+    runner = CliRunner()
+    jobs = runner.invoke(cli, ["build", "--store", str(tmp_path / "s.duckdb"), "--jobs", "2",
+                               *flags])
+    assert jobs.exit_code == 0, jobs.output
+    assert f"{len(YEARS)} period(s) computed" in jobs.output
+    lake = runner.invoke(cli, ["build", "--store", str(tmp_path / "r.duckdb"), "--partitions",
+                               str(tmp_path / "lake"), *flags])
+    assert lake.exit_code == 0, lake.output
+    with Store(tmp_path / "r.duckdb") as store:
+        assert set(store.table("periods")["period"]) == YEARS
+    bad = runner.invoke(cli, ["build", "--store", str(tmp_path / "s.duckdb"), "--scheduler",
+                              "tcp://127.0.0.1:1", *flags])
+    assert bad.exit_code == 2 and "only applies to Dask" in bad.output
