@@ -1,7 +1,8 @@
 """``blocwatch rebuild`` through the real CLI on a real store: incremental, idempotent, locked.
 
 Data: the invented demo assembly split into one votes file per year (tests/rebuild_util.py),
-three or four years, bootstrap and permutations off so each build takes seconds.
+three or four years, with a few bootstrap replicates and permutations so that the equality
+checks also cover the seeded random steps, and each build still takes seconds.
 """
 
 import json
@@ -24,6 +25,8 @@ from tests.rebuild_util import (
     write_year,
 )
 
+SETTINGS = {"bootstrap": 3, "permutations": 3}
+
 
 def _ok(proc):
     assert proc.returncode == 0, f"exit {proc.returncode}\n{proc.stdout}\n{proc.stderr}"
@@ -37,7 +40,7 @@ def _recomputed(store):
 @pytest.fixture(scope="module")
 def built(tmp_path_factory):
     """A project with three years, rebuilt once (the report off to keep it quick)."""
-    project = make_project(tmp_path_factory.mktemp("proj"), 3)
+    project = make_project(tmp_path_factory.mktemp("proj"), 3, settings=SETTINGS)
     out = _ok(cli("rebuild", "--no-report", cwd=project))
     assert "3 period(s) recomputed" in out.stdout
     return project
@@ -80,7 +83,7 @@ def test_one_new_period_recomputes_exactly_that_period_and_equals_full(built, tm
     assert len(_recomputed(store)[-1]) == 4
     assert_same(incremental, contents(store))
     # and so does a fresh project loaded with all four years at once
-    fresh = make_project(tmp_path / "fresh", 4)
+    fresh = make_project(tmp_path / "fresh", 4, settings=SETTINGS)
     _ok(cli_here("rebuild", "--no-report", project=fresh))
     assert_same(incremental, contents(fresh / "blocwatch.duckdb"))
 
@@ -113,7 +116,7 @@ def test_changed_settings_make_every_period_stale(built):
 
 
 def test_two_rebuilds_at_once_one_runs_one_exits_75(tmp_path):
-    project = make_project(tmp_path / "p", 3)
+    project = make_project(tmp_path / "p", 3)  # fast settings: only the overlap matters
     store = project / "blocwatch.duckdb"
     procs = [popen("rebuild", "--no-report", cwd=project) for _ in range(2)]
     results = [(p, *p.communicate(timeout=600)) for p in procs]
@@ -164,7 +167,7 @@ def test_changed_roster_recomputes_the_periods_it_touches(built, tmp_path):
     # 2001 is untouched; 2003 holds only the new spell; 2002 holds both halves
     assert str(FIRST_YEAR + 2) in recomputed and str(FIRST_YEAR) not in recomputed
     assert recomputed <= {str(FIRST_YEAR + 1), str(FIRST_YEAR + 2)}
-    fresh = make_project(tmp_path / "fresh", 3)
+    fresh = make_project(tmp_path / "fresh", 3, settings=SETTINGS)
     _move_member(fresh)
     _ok(cli_here("rebuild", "--no-report", project=fresh))
     assert_same(contents(fresh / "blocwatch.duckdb"), contents(store))
