@@ -3,9 +3,12 @@
 import os
 import subprocess
 import sys
+from pathlib import Path
 
 import numpy as np
 import pytest
+
+from blocwatch.metrics import resampling
 from blocwatch.metrics.resampling import (
     ballot_weights,
     block_codes,
@@ -65,7 +68,11 @@ def test_percentile_interval_matches_numpy_and_ignores_nan():
 
 def test_stable_seed_survives_hash_randomisation():
     # Python's str hash differs per process unless PYTHONHASHSEED is fixed; ours must not.
-    code = "from blocwatch.metrics.resampling import stable_seed; print(stable_seed(1, 'b', 2))"
+    # Load the module file alone (not the package) to keep the two interpreters cheap.
+    path = Path(resampling.__file__)
+    code = ("import importlib.util as u; s = u.spec_from_file_location('r', %r); "
+            "m = u.module_from_spec(s); s.loader.exec_module(m); "
+            "print(m.stable_seed(1, 'b', 2))" % str(path))
     seen = set()
     for hashseed in ("1", "2"):
         env = {**os.environ, "PYTHONHASHSEED": hashseed}
@@ -74,3 +81,25 @@ def test_stable_seed_survives_hash_randomisation():
         seen.add(int(out.stdout))
     assert seen == {stable_seed(1, "b", 2)}
     assert 0 <= stable_seed("x") < 2**63 and stable_seed("a", "b") != stable_seed("ab")
+
+
+def test_ballot_bootstrap_intervals_cover_the_large_sample_value():
+    # Issue 3 acceptance (cheap version): planted spatial roll call (own generator), the
+    # cross-group agreement share from 100 ballots; the 95% percentile interval from
+    # ballot_weights must cover the value on 30 000 ballots in ≥ 85% of 60 repetitions.
+    from tests.spatial_sim import spatial_votes
+
+    votes, _, groups = spatial_votes(n=20, b=60 * 100 + 30000, separation=1.0, seed=21)
+    yes, no = (votes == 1).astype(float), (votes == 2).astype(float)
+    ya, yb = yes[groups == 0].sum(0), yes[groups == 1].sum(0)
+    na, nb = no[groups == 0].sum(0), no[groups == 1].sum(0)
+    same, both = ya * yb + na * nb, (ya + na) * (yb + nb)  # per-ballot cross-pair counts
+    truth = same[6000:].sum() / both[6000:].sum()
+    covered = 0
+    for r in range(60):
+        cols = slice(100 * r, 100 * (r + 1))
+        w = ballot_weights(100, 400, seed=r)
+        boot = (w @ same[cols]) / (w @ both[cols])
+        low, high = percentile_interval(boot)
+        covered += low <= truth <= high
+    assert covered >= 0.85 * 60, covered
