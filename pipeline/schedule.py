@@ -43,7 +43,11 @@ def _check_when(when: str) -> str:
 
 
 def cron_schedule(when: str, at: str) -> str:
-    """The five cron time fields (minute hour day-of-month month day-of-week)."""
+    """The five cron time fields (minute hour day-of-month month day-of-week).
+
+    >>> cron_schedule("weekly", "03:17")
+    '17 3 * * 1'
+    """
     hour, minute = parse_at(at)
     return {"hourly": f"{minute} * * * *", "daily": f"{minute} {hour} * * *",
             "weekly": f"{minute} {hour} * * 1", "monthly": f"{minute} {hour} 1 * *",
@@ -51,7 +55,11 @@ def cron_schedule(when: str, at: str) -> str:
 
 
 def on_calendar(when: str, at: str) -> str:
-    """systemd ``OnCalendar=`` for the same times (weekly: Mondays)."""
+    """systemd ``OnCalendar=`` for the same times (weekly: Mondays).
+
+    >>> on_calendar("monthly", "4:05")
+    '*-*-01 04:05:00'
+    """
     hour, minute = parse_at(at)
     hm = f"{hour:02d}:{minute:02d}:00"
     return {"hourly": f"*-*-* *:{minute:02d}:00", "daily": f"*-*-* {hm}",

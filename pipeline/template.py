@@ -30,7 +30,11 @@ _INTRO = {
 
 
 def toml_value(value) -> str:
-    """A Python value as a TOML literal (strings in JSON form, which TOML accepts)."""
+    """A Python value as a TOML literal (strings in JSON form, which TOML accepts).
+
+    >>> toml_value(True), toml_value(0.25), toml_value(["data/*.csv"])
+    ('true', '0.25', '["data/*.csv"]')
+    """
     if isinstance(value, bool):
         return "true" if value else "false"
     if isinstance(value, (int, float)):
