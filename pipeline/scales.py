@@ -196,8 +196,8 @@ def read_answer(raw: object, scale: Scale, mapping: Mapping[str, str] | None = N
     >>> s = parse_scale("ordinal:1..9")
     >>> read_answer("4.0", s), read_answer("", s), read_answer("abstain", s)
     (('4', 4.0), ('absent', None), ('abstain', None))
-    >>> read_answer("11", s)
-    '11 is outside the range 1..9 of this ordinal ballot'
+    >>> print(read_answer("11", s))
+    '11' is outside the range 1..9 of this ordinal ballot
     """
     key = normalise(raw)
     if key == "":
