@@ -167,9 +167,16 @@ def _check_body(name: str, body: Any, path: Path | None) -> None:
                              BODY_KEYS[key][1], path)
 
 
-def activate(path: str | Path | None = None, *, sections: dict | None = None) -> Config:
-    """Load and check the config in force and make it the one the helpers below read."""
+def activate(path: str | Path | None = None, *, sections: dict | None = None,
+             empty: bool = False) -> Config:
+    """Load and check the config in force and make it the one the helpers below read.
+
+    ``empty``: use no file at all (the demo builds its own project and ignores the user's).
+    """
     global _active
+    if empty:
+        _active = Config(None, {})
+        return _active
     file = find_config(path)
     data = load_config(file) if file else {}
     _active = Config(file, check_config(data, file, sections=sections))

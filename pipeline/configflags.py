@@ -165,9 +165,10 @@ def default_map(cfg: Config, group: click.Group) -> dict[str, dict]:
 
 def apply_config(ctx: click.Context, path: str | None) -> Config:
     """Activate the config in force and give the group its ``default_map``."""
+    if ctx.invoked_subcommand in UNCONFIGURED:
+        return activate(empty=True)
     group = ctx.command
     sections = flag_sections(group) if isinstance(group, click.Group) else {}
     cfg = activate(path, sections=sections)
-    if ctx.invoked_subcommand not in UNCONFIGURED:
-        ctx.default_map = default_map(cfg, group)
+    ctx.default_map = default_map(cfg, group)
     return cfg

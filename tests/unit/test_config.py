@@ -151,3 +151,14 @@ def test_missing_named_config_is_an_error(tmp_path):
 def test_library_check_raises_usage_error(tmp_path):
     with pytest.raises(UsageError, match="bodies.A.replace"):
         activate(write(tmp_path, '[bodies.A]\nsources = "x"\nreplace = "yes"\n'))
+
+
+def test_demo_ignores_the_project_config(tmp_path):
+    """The demo makes its own project: a broken blocwatch.toml around it does not matter."""
+    write(tmp_path, "[build\n")
+    ctx = cli.make_context("blocwatch", ["demo", "--help"], resilient_parsing=True)
+    from blocwatch.pipeline.configflags import apply_config
+
+    ctx.invoked_subcommand = "demo"
+    cfg = apply_config(ctx, str(tmp_path / "blocwatch.toml"))
+    assert cfg.path is None and cfg.data == {}
