@@ -17,6 +17,7 @@ and finally runs ``blocwatch rebuild`` to completion and compares every data and
 with an uninterrupted run on the same files (provenance columns aside).
 
     python tests/benchmarks/crash_harness.py --trials 20 [--seed 1] [--keep DIR]
+        [--bootstrap N --permutations N]
 
 ``tests/e2e/test_crash.py`` runs three trials of the same code in CI.
 """
@@ -188,7 +189,8 @@ def run_trial(base: Path, kind: str, delay: float, work: Path, expected: dict,
 
 
 def run_trials(trials: int, *, seed: int = 1, work: Path | None = None, log=print,
-               spans: dict[str, float] | None = None) -> list[Trial]:
+               spans: dict[str, float] | None = None,
+               settings: dict | None = None) -> list[Trial]:
     """``trials`` kills, cycling through :data:`KINDS`; ``spans`` (seconds each holds the lock
     when not interrupted) is measured unless given."""
     rng = random.Random(seed)
@@ -196,8 +198,8 @@ def run_trials(trials: int, *, seed: int = 1, work: Path | None = None, log=prin
     work = Path(tempfile.mkdtemp(prefix="blocwatch-crash-")) if own else Path(work)
     try:
         base = work / "base"
-        prepare(base)
-        expected = reference(work / "reference")
+        prepare(base, settings)
+        expected = reference(work / "reference", settings)
         spans = spans or {kind: measure(base, kind, work) for kind in KINDS}
         log("uninterrupted lock hold: " + ", ".join(f"{k} {v:.2f}s" for k, v in spans.items()))
         done = []
@@ -221,9 +223,15 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--seed", type=int, default=1)
     parser.add_argument("--keep", type=Path, default=None,
                         help="work in this folder and keep it (default: a temporary one)")
+    parser.add_argument("--bootstrap", type=int, default=0,
+                        help="replicates per period (0: fastest; >0 also checks the seeded "
+                             "random steps come out equal)")
+    parser.add_argument("--permutations", type=int, default=0)
     args = parser.parse_args(argv)
     t0 = time.monotonic()
-    done = run_trials(args.trials, seed=args.seed, work=args.keep)
+    settings = {"bootstrap": args.bootstrap, "permutations": args.permutations}
+    print(f"settings: {settings}")
+    done = run_trials(args.trials, seed=args.seed, work=args.keep, settings=settings)
     killed = sum(t.killed for t in done)
     print(f"{len(done)} trials ({killed} killed mid-run), all consistent and equal to the "
           f"uninterrupted run, in {time.monotonic() - t0:.0f}s")
