@@ -293,10 +293,14 @@ class _Load:
         members = self._members(votes)
         bodies = sorted({b for r in self.results for b in r.bodies} | set(
             spells["body"].unique() if not spells.empty else []))
+        ingests = self._ingest_rows()
+        for s in self.staged.values():  # the file copies are no longer needed: free the memory
+            if s.kind == "votes" and combined != s.table:
+                store.drop_stage(s.table)
         with store.transaction():  # every write of the load: all or nothing
             report.votes_written = writer.write_load(
                 store, votes=combined, ballots=bal, members=members, spells=spells,
-                spell_members=spell_members, ingests=self._ingest_rows(), bodies=bodies,
+                spell_members=spell_members, ingests=ingests, bodies=bodies,
                 replace=self.replace)
             scale_load.write_scales(store, default=self.scale, bodies=bodies)
 

@@ -347,6 +347,13 @@ class Store:
         except duckdb.Error as exc:
             raise ReadError(exc) from exc
 
+    def drop_stage(self, name: str) -> None:
+        """Drop one staged table (and the row-numbered view over it, if any)."""
+        check_stage(name)
+        self.con.execute(f"DROP VIEW IF EXISTS {name}")
+        self.con.execute(f"DROP TABLE IF EXISTS {name}_t")
+        self.con.execute(f"DROP TABLE IF EXISTS {name}")
+
     def drop_staged(self) -> None:
         """Drop every temporary ``_bw_*`` table and view of this connection."""
         views = self.con.execute(
