@@ -8,10 +8,10 @@ sees only the k-dimensional classical-MDS embedding.
 from __future__ import annotations
 
 import numpy as np
-from sklearn.linear_model import LogisticRegression
 from sklearn.metrics import balanced_accuracy_score, silhouette_score
 from sklearn.model_selection import StratifiedKFold
 
+from blocwatch.metrics.logistic import fit_logistic, predict_logistic
 from blocwatch.metrics.mds import agreement_distances, classical_mds, impute_distances
 from blocwatch.metrics.registry import MetricValue, PeriodInput, register
 from blocwatch.metrics.validation import check_distances, normalise_labels
@@ -20,8 +20,9 @@ __all__ = ["separability", "silhouette"]
 
 MIN_GROUP = 2  # members a group needs to take part in cross-validation
 MAX_SPLITS = 5
-# Newton–Cholesky suits few features and many samples: same fit as lbfgs, ~20x faster here.
-SOLVER = "newton-cholesky"
+# The classifier is blocwatch.metrics.logistic (the model of scikit-learn's
+# LogisticRegression(C=1), tested against it): its per-fit overhead is far below sklearn's,
+# which matters because this runs per bootstrap replicate and per permutation.
 
 
 def _canonical_order(d: np.ndarray, codes: np.ndarray, x: np.ndarray) -> np.ndarray:
@@ -55,14 +56,15 @@ def _separability(d: np.ndarray, codes: np.ndarray, k: int, seed: int) -> tuple[
     x = x / np.sqrt(lam[0] / x.shape[0])  # one scale, so C = 1 means the same every period
     keep = keep[_canonical_order(impute_distances(d)[np.ix_(keep, keep)], codes[keep],
                                  x[keep])]
-    xs, ys = x[keep], codes[keep]
+    xs = x[keep]
+    ys = np.unique(codes[keep], return_inverse=True)[1]
     smallest = int(sizes[keep_groups].min())
     splits = min(MAX_SPLITS, smallest)
     pred = np.empty_like(ys)
     folds = StratifiedKFold(n_splits=splits, shuffle=True, random_state=seed)
     for train, test in folds.split(xs, ys):
-        fit = LogisticRegression(solver=SOLVER).fit(xs[train], ys[train])
-        pred[test] = fit.predict(xs[test])
+        coef = fit_logistic(xs[train], ys[train], n_classes=keep_groups.size)
+        pred[test] = predict_logistic(xs[test], coef)
     value = float(balanced_accuracy_score(ys, pred))
     notes = [f"{splits}-fold CV over {keep_groups.size} groups; {chance}"]
     dropped = codes.shape[0] - keep.shape[0]
@@ -77,7 +79,8 @@ def separability(distances, labels, *, k: int = 2, seed: int = 0) -> float:
     r"""Cross-validated balanced accuracy of predicting group from a k-dim MDS embedding.
 
     Members are placed by :func:`~blocwatch.metrics.mds.classical_mds` (k dimensions,
-    rescaled so axis 1 has unit RMS); a logistic regression (L2, C = 1, Newton–Cholesky solver)
+    rescaled so axis 1 has unit RMS); a logistic regression (L2, C = 1, as scikit-learn's,
+    fitted by :func:`~blocwatch.metrics.logistic.fit_logistic`)
     predicts each member's group from out-of-fold fits; the score is the balanced accuracy of
     the pooled out-of-fold predictions,
 
