@@ -13,6 +13,9 @@ import numpy as np
 from blocwatch.metrics.modularity import group_modularity
 from blocwatch.metrics.validation import check_adjacency, check_square, normalise_labels, one_hot
 
+__all__ = ["cross_tie_share", "participation_coefficient", "within_group_median",
+           "super_cooperators", "leave_one_out_delta_q"]
+
 
 def _graph(weights, labels) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     codes, k = normalise_labels(labels)

@@ -18,8 +18,19 @@ from __future__ import annotations
 
 import numpy as np
 
-from blocwatch.metrics.registry import ABSTAIN, NO, YES, MetricValue, PeriodInput, register
+from blocwatch.metrics.registry import (
+    ABSTAIN,
+    MISSING,
+    NO,
+    YES,
+    MetricValue,
+    PeriodInput,
+    register,
+)
 from blocwatch.metrics.validation import check_square, normalise_labels
+
+__all__ = ["group_counts", "rice_index", "agreement_index", "group_lines", "group_line_ballots",
+           "loyalty", "group_agreement_matrix", "LINE_NONE", "LINE_YES", "LINE_NO"]
 
 LINE_NONE, LINE_YES, LINE_NO = 0, 1, 2
 
@@ -140,6 +151,11 @@ def group_lines(votes, labels) -> np.ndarray:
 
     >>> group_lines([[1, 1], [1, 2], [2, 3]], [0, 0, 0]).tolist()
     [[1, 0]]
+
+    References
+    ----------
+    Hix S, Noury A, Roland G (2007). Democratic Politics in the European Parliament. Cambridge
+    University Press (group majorities on roll calls).
     """
     y, n, a = group_counts(votes, labels)
     total = y + n + a
@@ -195,7 +211,7 @@ def loyalty(votes, labels) -> np.ndarray:
     lines = group_lines(votes, labels)
     on_line = group_line_ballots(votes, labels)
     own = lines[labels] if labels.size else np.zeros_like(votes)  # (n, b) own group's line
-    counted = on_line[None, :] & (own != LINE_NONE) & (votes != 0)
+    counted = on_line[None, :] & (own != LINE_NONE) & (votes != MISSING)
     with_line = counted & (votes == own)
     n_counted = counted.sum(axis=1)
     with np.errstate(invalid="ignore", divide="ignore"):

@@ -20,6 +20,8 @@ from scipy import special
 
 from blocwatch.metrics.registry import ABSTAIN, NO, YES
 
+__all__ = ["IdealPoints", "ideal_points_em"]
+
 _LOG_SQRT_2PI = 0.5 * np.log(2 * np.pi)
 
 

@@ -29,6 +29,9 @@ from blocwatch.metrics.mds import agreement_distances, classical_mds
 from blocwatch.metrics.positions import period_ideal_points
 from blocwatch.metrics.registry import PeriodInput
 
+__all__ = ["MEMBER_FAMILIES", "MemberFamily", "register_member", "member_metric_names",
+           "compute_members"]
+
 
 @dataclass(frozen=True)
 class MemberFamily:
@@ -41,7 +44,17 @@ MEMBER_FAMILIES: dict[str, MemberFamily] = {}
 
 
 def register_member(name: str, metrics: tuple[str, ...]):
-    """Decorator: add a member-level family to :data:`MEMBER_FAMILIES`."""
+    """Decorator: add a member-level family to :data:`MEMBER_FAMILIES`.
+
+    The function takes a :class:`PeriodInput` and returns one length-n array per metric.
+
+    >>> @register_member("doc_example", ("doc_zero",))
+    ... def _zero(inp):
+    ...     return {"doc_zero": np.zeros(inp.n)}
+    >>> "doc_zero" in member_metric_names()
+    True
+    >>> del MEMBER_FAMILIES["doc_example"]
+    """
 
     def deco(func: Callable[[PeriodInput], dict[str, np.ndarray]]):
         if name in MEMBER_FAMILIES:
@@ -53,7 +66,11 @@ def register_member(name: str, metrics: tuple[str, ...]):
 
 
 def member_metric_names() -> list[str]:
-    """Every member metric name, in registration order."""
+    """Every member metric name, in registration order.
+
+    >>> member_metric_names()[:2]
+    ['cross_tie_share', 'participation']
+    """
     return [m for fam in MEMBER_FAMILIES.values() for m in fam.metrics]
 
 
@@ -63,6 +80,17 @@ def compute_members(inp: PeriodInput, *, families: list[str] | None = None,
 
     Returns one float array of length n per metric. A family raising ``ValueError`` yields
     NaN arrays; its message goes into ``notes`` (metric → note) when a dict is passed.
+
+    >>> a = np.array([[1, .9, .2, .3], [.9, 1, .1, .2], [.2, .1, 1, .8], [.3, .2, .8, 1]])
+    >>> w = a - np.eye(4)
+    >>> inp = PeriodInput(agreement=a, shared=np.full((4, 4), 10), labels=np.array([0, 0, 1, 1]),
+    ...                   weights=w, edges=w > 0.25)
+    >>> notes = {}
+    >>> out = compute_members(inp, notes=notes)
+    >>> out["cross_tie_share"].tolist(), out["cross_partners"].tolist()
+    ([0.5, 0.0, 0.0, 0.5], [0.0, 0.0, 0.0, 0.0])
+    >>> notes["loyalty"]
+    'needs the vote matrix, which was not available'
     """
     out: dict[str, np.ndarray] = {}
     n = inp.n

@@ -15,6 +15,9 @@ import numpy as np
 from blocwatch.metrics.modularity import group_modularity
 from blocwatch.metrics.validation import check_adjacency, normalise_labels
 
+__all__ = ["permuted_labels", "label_permutation_null", "batched_group_modularity",
+           "modularity_permutation_null", "expected_modularity"]
+
 _CHUNK_COLUMNS = 1 << 15  # permutations × groups per matrix product (bounds memory)
 
 
@@ -110,6 +113,10 @@ def batched_group_modularity(weights, label_stack, *, resolution: float = 1.0) -
     >>> w = np.ones((4, 4)) - np.eye(4)
     >>> batched_group_modularity(w, [[0, 0, 1, 1], [0, 0, 0, 0]]).round(6).tolist()
     [-0.166667, 0.0]
+
+    References
+    ----------
+    Newman MEJ (2006). Modularity and community structure in networks. PNAS 103(23):8577–8582.
     """
     w = check_adjacency(weights)
     stack = np.atleast_2d(np.asarray(label_stack))

@@ -20,6 +20,9 @@ from blocwatch.metrics.mds import agreement_distances, classical_mds
 from blocwatch.metrics.registry import MetricValue, PeriodInput, register
 from blocwatch.metrics.validation import normalise_labels
 
+__all__ = ["main_pair", "median_distance", "overlap_count", "bimodality_coefficient",
+           "period_ideal_points", "MIN_GROUP_SIZE"]
+
 MIN_GROUP_SIZE = 3  # a median of fewer positioned members is not worth a number
 
 
@@ -160,6 +163,10 @@ def period_ideal_points(votes) -> IdealPoints:
     The period family and the member table both need the same fit; the cache (the last four
     vote matrices, keyed by a SHA-256 of shape and bytes) saves the second run. The arrays of
     a cached fit are read-only.
+
+    >>> v = np.array([[1, 1, 2, 1], [1, 1, 2, 2], [1, 2, 1, 2], [2, 2, 1, 2], [2, 2, 1, 1]])
+    >>> period_ideal_points(v) is period_ideal_points(v.copy())
+    True
     """
     votes = np.ascontiguousarray(votes, dtype=np.int8)
     key = hashlib.sha256(repr(votes.shape).encode() + votes.tobytes()).hexdigest()

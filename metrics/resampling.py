@@ -12,6 +12,8 @@ import hashlib
 import numpy as np
 import pandas as pd
 
+__all__ = ["ballot_weights", "block_codes", "percentile_interval", "stable_seed"]
+
 
 def ballot_weights(n_ballots: int, n_boot: int, *, seed, blocks=None) -> np.ndarray:
     """Bootstrap count weights for the ballots of one period, shape (n_boot, n_ballots).

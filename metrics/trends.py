@@ -13,6 +13,9 @@ import numpy as np
 import ruptures
 from scipy import stats
 
+__all__ = ["MannKendall", "TheilSen", "mann_kendall", "theil_sen", "default_penalty",
+           "change_points", "trend_summary", "MIN_TREND_PERIODS"]
+
 MIN_TREND_PERIODS = 4  # below this the trends row carries a note instead of a test
 
 
@@ -129,6 +132,12 @@ def default_penalty(y) -> float:
 
     >>> round(default_penalty([1.0, 1.2, 0.9, 1.1, 1.0, 3.0, 3.1, 2.9, 3.2]), 4)
     0.1932
+
+    References
+    ----------
+    Killick R, Fearnhead P, Eckley IA (2012), JASA 107(500):1590–1598 (penalties of order
+    σ² log n for a change in mean); Hampel FR (1974). The influence curve and its role in
+    robust estimation. JASA 69(346):383–393 (the MAD and its 1.4826 factor).
     """
     y = _series(y)
     y = y[np.isfinite(y)]

@@ -4,8 +4,9 @@ import math
 
 import numpy as np
 import pytest
-from blocwatch.metrics import trends
 from scipy import stats
+
+from blocwatch.metrics import trends
 
 
 def test_mann_kendall_methods_series():
