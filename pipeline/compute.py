@@ -178,12 +178,14 @@ def compute_period(vm: VoteMatrix, opts: BuildOptions, version: str) -> PeriodRe
 def _member_rows(vm: VoteMatrix, inp: PeriodInput) -> pd.DataFrame:
     if inp.n == 0:
         return pd.DataFrame(columns=["member_id", "group_name", "metric", "value", "note"])
-    scores = compute_members(inp)
+    notes: dict[str, str] = {}
+    scores = compute_members(inp, notes=notes)
     frames = [pd.DataFrame({"member_id": vm.member_ids, "group_name": vm.groups, "metric": name,
                             "value": np.asarray(vals, dtype=float)})
               for name, vals in scores.items()]
     out = pd.concat(frames, ignore_index=True)
-    out["note"] = None
+    out["note"] = out["metric"].map(notes).astype(object)  # why a whole metric is empty
+    out.loc[out["note"].isna(), "note"] = None
     return out
 
 
