@@ -471,6 +471,12 @@ def _broken_json(path: Path, name: str, problems: Problems) -> None:
     """Find the lines DuckDB could not read, with Python's parser (error path only)."""
     import json
 
+    with open(path, "rb") as fh:
+        if fh.read(4096).lstrip().startswith(b"["):
+            problems.add(Problem("json", name, "holds one JSON array, not one object per line",
+                                 "write JSON lines: one {…} object per line, no enclosing [ ]",
+                                 line=1))
+            return
     found = 0
     with open(path, "rb") as fh:
         for lineno, raw in enumerate(fh, start=1):

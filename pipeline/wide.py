@@ -9,9 +9,10 @@ The wide layout keeps one row per member and one column per ballot::
 Columns named as a member, name, group or body field (see ``readers.FIELDS``) describe the
 member; every other column with a header is a ballot. Rows right below the header whose member
 cell reads ``date`` (or ``held_on``), ``title`` or ``item`` give each ballot's attributes; without
-a date row, dates come from ``--ballots FILE`` or from ballots already stored. Only the first
-sheet of a workbook is read. Merged cells and formulas are refused (their values are not what a
-clerk sees); blank cells mean absent.
+a date row, a ballot header that starts with an ISO date (``2021-01-12`` or ``2021-01-12 #2``)
+dates its ballot, and other dates come from ``--ballots FILE`` or from ballots already stored.
+Only the first sheet of a workbook is read. Merged cells and formulas are refused (their values
+are not what a clerk sees); blank cells mean absent.
 
 Spreadsheets are small next to long files, so they are read in Python and staged as a frame.
 """
@@ -21,6 +22,7 @@ from __future__ import annotations
 import csv
 import datetime as dt
 import io
+import re
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -270,8 +272,9 @@ def _wide_frame(grid: Grid, name: str, body: str | None, overrides: dict, proble
         "body": [body] * (m * b) if "body" not in cols else
         np.repeat([grid.rows[r][cols["body"]] for r in members], b),
         "ballot_id": np.tile(np.array([header[j] for j in ballots], dtype=object), m),
-        "held_on": np.tile(np.array([grid.rows[meta["held_on"]][j] if "held_on" in meta else None
-                                     for j in ballots], dtype=object), m),
+        "held_on": np.tile(np.array([grid.rows[meta["held_on"]][j] if "held_on" in meta else
+                                     _header_date(header[j]) for j in ballots], dtype=object),
+                           m),
         "member_id": np.repeat(np.array([grid.rows[r][member_col] for r in members],
                                         dtype=object), b),
         "raw": cells.reshape(-1) if m and b else np.array([], dtype=object),
@@ -291,6 +294,15 @@ def _wide_frame(grid: Grid, name: str, body: str | None, overrides: dict, proble
     headers["_cols"] = cols
     headers["_date_row"] = meta.get("held_on")
     return frame, headers
+
+
+_HEADER_DATE = re.compile(r"^(\d{4}-\d{2}-\d{2})(?:$|[ _/#.-])")
+
+
+def _header_date(header: str) -> str | None:
+    """The ISO date a ballot header starts with ('2021-01-12 #2' -> '2021-01-12'), if any."""
+    match = _HEADER_DATE.match(header)
+    return match.group(1) if match else None
 
 
 def _member_col(grid: Grid, members: list[int], col: int | None, b: int) -> np.ndarray:

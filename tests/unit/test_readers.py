@@ -150,3 +150,22 @@ def test_a_quoted_line_break_moves_later_lines(store, tmp_path):
     staged = stage_file(store, path, kind="votes", table="_bw_s0", body="C", overrides={},
                         problems=Problems())
     assert staged.place(1, "raw") == (4, None, "vote")
+
+
+def test_wide_ballot_headers_that_are_dates_date_their_ballots(store, tmp_path):
+    path = tmp_path / "w.csv"
+    path.write_text("member_id,group,2020-05-04,2020-05-04 #2,x9\nA1,L,y,n,y\n",
+                    encoding="utf-8")
+    stage_file(store, path, kind="votes", table="_bw_s0", body="C", overrides={},
+               problems=Problems(), layout="wide")
+    assert store.rows("SELECT ballot_id, held_on FROM _bw_s0 ORDER BY rid") == [
+        ("2020-05-04", "2020-05-04"), ("2020-05-04 #2", "2020-05-04"), ("x9", None)]
+
+
+def test_a_json_array_file_is_named_as_such(store, tmp_path):
+    path = tmp_path / "v.json"
+    path.write_text('[{"ballot_id": "b1"},\n{"ballot_id": "b2"}]\n', encoding="utf-8")
+    problems = Problems()
+    assert stage_file(store, path, kind="votes", table="_bw_s0", body="C", overrides={},
+                      problems=problems) is None
+    assert "holds one JSON array" in problems.items[0].why and problems.items[0].line == 1
