@@ -17,6 +17,7 @@ from blocwatch.metrics import PeriodInput, compute_all, registry
 from blocwatch.metrics.cohesion import group_agreement_matrix
 from blocwatch.metrics.member_registry import compute_members
 from blocwatch.metrics.nulls import label_permutation_null
+from blocwatch.metrics.reliability import alpha_by_group
 from blocwatch.metrics.resampling import ballot_weights, percentile_interval, stable_seed
 from blocwatch.pipeline import scored
 from blocwatch.pipeline.agreement import (
@@ -190,13 +191,19 @@ def _member_rows(vm: VoteMatrix, inp: PeriodInput) -> pd.DataFrame:
 
 
 def _group_rows(vm: VoteMatrix, inp: PeriodInput) -> pd.DataFrame:
-    cols = ["group_a", "group_b", "agreement", "n_pairs"]
+    cols = ["group_a", "group_b", "agreement", "n_pairs", "alpha"]
     if inp.n == 0:
         return pd.DataFrame(columns=cols)
     mean, pairs = group_agreement_matrix(inp.agreement, inp.labels)
     g = vm.group_names
     ia, ib = np.meshgrid(np.arange(len(g)), np.arange(len(g)), indexing="ij")
+    # Per-group Krippendorff alpha on the diagonal, for periods with scored ballots.
+    alpha = np.full((len(g), len(g)), np.nan)
+    if inp.scores is not None:
+        np.fill_diagonal(alpha, alpha_by_group(inp.scores, inp.labels,
+                                               level=inp.score_level)[: len(g)])
     return pd.DataFrame({"group_a": np.array(g, dtype=object)[ia.ravel()],
                          "group_b": np.array(g, dtype=object)[ib.ravel()],
                          "agreement": np.asarray(mean, dtype=float).ravel(),
-                         "n_pairs": np.asarray(pairs, dtype=np.int64).ravel()})
+                         "n_pairs": np.asarray(pairs, dtype=np.int64).ravel(),
+                         "alpha": alpha.ravel()})

@@ -135,6 +135,7 @@ CREATE TABLE IF NOT EXISTS group_agreement (
     group_b VARCHAR NOT NULL,
     agreement DOUBLE,
     n_pairs INTEGER NOT NULL,
+    alpha DOUBLE,  -- Krippendorff's alpha of group_a's members (diagonal rows, scored ballots)
     PRIMARY KEY (body, period, group_a, group_b)
 );
 CREATE TABLE IF NOT EXISTS trends (

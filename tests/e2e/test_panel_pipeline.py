@@ -22,11 +22,14 @@ def panel(tmp_path_factory):
     return demo_panel.generate(tmp_path_factory.mktemp("panel"), seed=11)
 
 
-def _metrics(path) -> pd.DataFrame:
+def _export_table(path, table: str = "metrics") -> pd.DataFrame:
     from blocwatch.pipeline.results import export_frame
 
     with Store(path, read_only=True) as store:
-        return export_frame(store, "metrics")
+        return export_frame(store, table)
+
+
+_metrics = _export_table
 
 
 def _ingest(path, *files, **options):
@@ -59,6 +62,14 @@ def test_panel_demo_end_to_end(run_cli, tmp_path, panel):
     assert (late["krippendorff_alpha_within"] > late["krippendorff_alpha"] + 0.3).all()
     assert late["group_modularity"].mean() > early["group_modularity"].mean() + 0.05
     assert metrics.loc[metrics["metric"] == "krippendorff_alpha", "low"].notna().all()
+    # Per-group alpha (diagonal of the groups table): each large section agrees with itself
+    # late on far more than the panel as a whole does.
+    groups = _export_table(tmp_path / "panel.duckdb", "groups")
+    diag = groups[(groups["group_a"] == groups["group_b"]) & (groups["period"] == "2025")]
+    own = diag.set_index("group_a")["alpha"]
+    panel_alpha = wide.loc["2025", "krippendorff_alpha"]
+    assert (own[["Field Studies", "Modelling"]] > panel_alpha + 0.3).all()
+    assert groups.loc[groups["group_a"] != groups["group_b"], "alpha"].isna().all()
 
     report = run_cli("report", "--store", "panel.duckdb", "--out", "report", check=True)
     pages = list((tmp_path / "report").rglob("*.html"))
