@@ -119,8 +119,8 @@ def measure(base: Path, kind: str, work: Path) -> float:
     proc = popen(*_command(kind, project), cwd=project)
     _wait_for_lock(proc, project / "blocwatch.duckdb")
     t0 = time.monotonic()
-    proc.communicate(timeout=600)
-    assert proc.returncode == 0, f"{kind} failed when not interrupted"
+    _, err = proc.communicate(timeout=600)
+    assert proc.returncode == 0, f"{kind} failed when not interrupted: {err}"
     return time.monotonic() - t0
 
 
