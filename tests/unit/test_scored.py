@@ -177,3 +177,15 @@ def test_digest_follows_scores():
                      list(sm.low), list(sm.high), list(sm.options))
     assert sm.digest() != changed.digest()
     assert sm.digest() == mixed()[1].digest()
+
+
+def test_yes_no_period_input_keeps_the_yes_no_path():
+    """compute.period_input without scales and with --agreement match is the yes/no path:
+    the float32 products, no scores (so the reliability family is left out)."""
+    from blocwatch.pipeline.compute import BuildOptions, period_input
+
+    opts = BuildOptions(agreement=AgreementOptions(min_shared=1))
+    inp = period_input(TOY, np.array([0, 0, 0, 1, 1, 1]), opts, 1)
+    same, both = agreement_counts(TOY)
+    np.testing.assert_array_equal(inp.agreement, agreement_matrix(same, both, min_shared=1))
+    assert inp.scores is None and inp.votes is TOY
