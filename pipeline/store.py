@@ -262,8 +262,13 @@ class Store:
         try:
             self.execute(f"{verb} {table} ({cols}) SELECT {cols} FROM _bw_frame")
         finally:
-            self.con.unregister("_bw_frame")
+            self._quiet_unregister("_bw_frame")
         return len(frame)
+
+    def _quiet_unregister(self, name: str) -> None:
+        """Unregister, even inside an aborted transaction (keep the original error visible)."""
+        with contextlib.suppress(duckdb.Error):
+            self.con.unregister(name)
 
     def register(self, name: str, frame: pd.DataFrame) -> None:
         """Make ``frame`` queryable as the view ``name`` on this connection."""
