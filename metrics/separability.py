@@ -8,7 +8,7 @@ sees only the k-dimensional classical-MDS embedding.
 from __future__ import annotations
 
 import numpy as np
-from sklearn.metrics import balanced_accuracy_score, silhouette_score
+from sklearn.metrics import silhouette_score
 from sklearn.model_selection import StratifiedKFold
 
 from blocwatch.metrics.logistic import fit_logistic, predict_logistic
@@ -40,6 +40,20 @@ def _canonical_order(d: np.ndarray, codes: np.ndarray, x: np.ndarray) -> np.ndar
     return np.lexsort(np.round(keys, 9))
 
 
+def balanced_accuracy(y_true: np.ndarray, y_pred: np.ndarray) -> float:
+    """Mean over classes of the share of that class predicted right (Brodersen et al. 2010).
+
+    The same number as ``sklearn.metrics.balanced_accuracy_score`` without its per-call input
+    validation, which cost more than the fits here (tested against it).
+
+    >>> balanced_accuracy(np.array([0, 0, 0, 1]), np.array([0, 0, 1, 1]))
+    0.8333333333333334
+    """
+    classes, y = np.unique(y_true, return_inverse=True)
+    hits = np.bincount(y, weights=(y_true == y_pred), minlength=classes.size)
+    return float(np.mean(hits / np.bincount(y, minlength=classes.size)))
+
+
 def _separability(d: np.ndarray, codes: np.ndarray, k: int, seed: int) -> tuple[float, str]:
     """Value and note; ``d`` checked, ``codes`` normalised. Raises ValueError if undefined."""
     sizes = np.bincount(codes, minlength=1)
@@ -65,7 +79,7 @@ def _separability(d: np.ndarray, codes: np.ndarray, k: int, seed: int) -> tuple[
     for train, test in folds.split(xs, ys):
         coef = fit_logistic(xs[train], ys[train], n_classes=keep_groups.size)
         pred[test] = predict_logistic(xs[test], coef)
-    value = float(balanced_accuracy_score(ys, pred))
+    value = balanced_accuracy(ys, pred)
     notes = [f"{splits}-fold CV over {keep_groups.size} groups; {chance}"]
     dropped = codes.shape[0] - keep.shape[0]
     if dropped:

@@ -277,13 +277,16 @@ def report(store_path, body, out, periods, images):
               help="Seed of the invented scenario.")
 @click.option("--bootstrap", type=click.IntRange(min=0), default=None,
               help="Bootstrap replicates (default: as blocwatch build).")
+@click.option("--jobs", type=click.IntRange(min=1), default=2, show_default=True,
+              help="Periods computed at once in local worker processes.")
 @click.pass_context
 @handle_errors
-def demo(ctx, out, seed, bootstrap):
-    """Generate an invented body, load it, build the series and write the report."""
+def demo(ctx, out, seed, bootstrap, jobs):
+    """Generate an invented assembly and review panel, load them, build and report."""
+    from blocwatch.pipeline import demo_data, demo_panel
     from blocwatch.pipeline.build import build as run_build
     from blocwatch.pipeline.compute import BuildOptions
-    from blocwatch.pipeline.demo_data import BODY, generate
+    from blocwatch.pipeline.executors import ExecutorSpec
     from blocwatch.pipeline.ingest import ingest_files
     from blocwatch.pipeline.results import export_frame, write_frame
     from blocwatch.pipeline.store import Store
@@ -292,11 +295,14 @@ def demo(ctx, out, seed, bootstrap):
     store_path = out_dir / "blocwatch.duckdb"
     if store_path.exists():
         store_path.unlink()  # the demo always starts from a fresh store
-    files = generate(out_dir / "data", seed=seed)
+    assembly = demo_data.generate(out_dir / "data", seed=seed)
+    panel = demo_panel.generate(out_dir / "data", seed=seed + 4)
     opts = BuildOptions() if bootstrap is None else BuildOptions(bootstrap=bootstrap)
     with Store(store_path) as store:
-        ingest_files(store, [files.votes], body=BODY, members=files.roster)
-        run_build(store, options=opts, progress=_progress(ctx, "build"), command="demo")
+        ingest_files(store, [assembly.votes], body=demo_data.BODY, members=assembly.roster)
+        ingest_files(store, [panel.votes], body=panel.body, members=panel.roster)
+        run_build(store, options=opts, progress=_progress(ctx, "build"), command="demo",
+                  executor=ExecutorSpec("local", jobs=jobs))
         frame = export_frame(store, "metrics")
     csv_path = write_frame(frame, "csv", out_dir / "metrics.csv")
     paths = _write_report(store_path, None, out_dir / "report", None, False)

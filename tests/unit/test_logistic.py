@@ -39,3 +39,17 @@ def test_separable_data_stays_finite():
     coef = fit_logistic(x, np.array([0, 0, 1, 1]))
     assert np.isfinite(coef).all()
     assert predict_logistic(x, coef).tolist() == [0, 0, 1, 1]
+
+
+def test_balanced_accuracy_equals_scikit_learn():
+    """Reference: sklearn.metrics.balanced_accuracy_score on random labels."""
+    from sklearn.metrics import balanced_accuracy_score
+
+    from blocwatch.metrics.separability import balanced_accuracy
+
+    rng = np.random.default_rng(4)
+    for _ in range(20):
+        y = rng.integers(0, 3, 30)
+        y[:3] = [0, 1, 2]
+        pred = rng.integers(0, 3, 30)
+        assert balanced_accuracy(y, pred) == pytest.approx(balanced_accuracy_score(y, pred))
