@@ -8,6 +8,7 @@ import numpy as np
 import pandas as pd
 
 from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.safety import neutralise_frame
 from blocwatch.pipeline.store import Store
 
 # Column order of each export (DESIGN.md: add columns at the end, never rename).
@@ -48,17 +49,6 @@ def export_frame(store: Store, table: str, *, body: str | None = None) -> pd.Dat
         raise UsageError(f"table {table!r}", "is not exportable",
                          f"use one of: {', '.join(EXPORT_TABLES)}")
     return store.df(EXPORT_QUERIES[table], [body, body])
-
-
-def neutralise_frame(frame: pd.DataFrame) -> pd.DataFrame:
-    """Text cells that a spreadsheet would run as a formula get a leading quote (OWASP)."""
-    from blocwatch.pipeline.safety import neutralise_cell
-
-    out = frame.copy()
-    for col in out.columns:
-        if out[col].dtype == object or pd.api.types.is_string_dtype(out[col]):
-            out[col] = out[col].map(neutralise_cell)
-    return out
 
 
 def write_frame(frame: pd.DataFrame, fmt: str, out: str | Path | None) -> Path | None:
