@@ -36,7 +36,9 @@ from dataclasses import dataclass
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[2]
-if str(ROOT) not in sys.path:  # run as a script from anywhere
+# Run as a script from anywhere: make ``tests`` importable. Never under pytest, where the repo
+# root on sys.path would make the bare folder names importable (tests/meta forbids that).
+if __name__ == "__main__" and str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
 from blocwatch.pipeline.demo_data import BODY, FIRST_YEAR  # noqa: E402

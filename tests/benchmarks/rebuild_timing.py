@@ -22,7 +22,7 @@ import time
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[2]
-if str(ROOT) not in sys.path:
+if __name__ == "__main__" and str(ROOT) not in sys.path:  # only when run as a script
     sys.path.insert(0, str(ROOT))
 
 from blocwatch.pipeline.demo_data import FIRST_YEAR, LAST_YEAR  # noqa: E402
