@@ -90,7 +90,12 @@ def fit_logistic(x: np.ndarray, y: np.ndarray, *, n_classes: int | None = None, 
 
 
 def predict_logistic(x: np.ndarray, coef: np.ndarray) -> np.ndarray:
-    """Most probable class for each row of ``x`` under :func:`fit_logistic` coefficients."""
+    """Most probable class for each row of ``x`` under :func:`fit_logistic` coefficients.
+
+    >>> coef = np.array([[2.0], [-1.0]])  # one feature, intercept -1: class 1 when 2x > 1
+    >>> predict_logistic(np.array([[0.0], [1.0]]), coef).tolist()
+    [0, 1]
+    """
     x = np.asarray(x, dtype=float)
     xt = np.hstack([x, np.ones((x.shape[0], 1))])
     return _probabilities(xt, coef, coef.shape[1] == 1).argmax(axis=1)

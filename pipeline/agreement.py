@@ -19,10 +19,11 @@ from dataclasses import dataclass
 import numpy as np
 
 from blocwatch.metrics.registry import ABSTAIN, NO, YES
-
-DEFAULT_MIN_SHARED = 5
-DEFAULT_MIN_SHARE_CAST = 0.25
-DEFAULT_LOPSIDED = 0.0
+from blocwatch.pipeline.defaults import (  # noqa: F401  (re-exported)
+    DEFAULT_LOPSIDED,
+    DEFAULT_MIN_SHARE_CAST,
+    DEFAULT_MIN_SHARED,
+)
 
 
 @dataclass(frozen=True)

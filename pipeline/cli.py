@@ -123,19 +123,17 @@ def build_options(period, rule, seed, bootstrap, permutations, expensive_replica
 
 def build_flags(func):
     """The options that decide a period's numbers (shared by build, rebuild and demo)."""
-    from blocwatch.pipeline.agreement import (
+    from blocwatch.pipeline.defaults import (
+        DEFAULT_BOOTSTRAP,
+        DEFAULT_EXPENSIVE_REPLICATES,
         DEFAULT_LOPSIDED,
         DEFAULT_MIN_SHARE_CAST,
         DEFAULT_MIN_SHARED,
-    )
-    from blocwatch.pipeline.compute import (
-        DEFAULT_BOOTSTRAP,
-        DEFAULT_EXPENSIVE_REPLICATES,
+        DEFAULT_PERIOD,
         DEFAULT_PERMUTATIONS,
+        DEFAULT_RULE,
         DEFAULT_SEED,
     )
-    from blocwatch.pipeline.graphs import DEFAULT_RULE
-    from blocwatch.pipeline.periods import DEFAULT_PERIOD
 
     flags = [
         click.option("--period", default=DEFAULT_PERIOD, show_default=True,

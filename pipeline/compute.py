@@ -26,16 +26,16 @@ from blocwatch.pipeline.agreement import (
     agreement_matrix,
     ballot_mask,
 )
+from blocwatch.pipeline.defaults import (  # noqa: F401
+    DEFAULT_BOOTSTRAP,
+    DEFAULT_EXPENSIVE_REPLICATES,
+    DEFAULT_PERMUTATIONS,
+    DEFAULT_SEED,
+)
 from blocwatch.pipeline.graphs import DEFAULT_RULE, build_graph, parse_rule
 from blocwatch.pipeline.matrices import VoteMatrix
 from blocwatch.pipeline.periods import DEFAULT_PERIOD
 
-DEFAULT_BOOTSTRAP = 200
-DEFAULT_PERMUTATIONS = 200
-# Replicates and permutations for families marked expensive (Louvain, CV fits, IRT): each call
-# costs milliseconds, so they get this many at most (documented in the README's defaults).
-DEFAULT_EXPENSIVE_REPLICATES = 40
-DEFAULT_SEED = 20240601
 METRIC_COLUMNS = ["metric", "value", "low", "high", "null_mean", "null_z", "null_p", "note"]
 
 

@@ -20,9 +20,8 @@ from dataclasses import dataclass
 import networkx as nx
 import numpy as np
 
+from blocwatch.pipeline.defaults import DEFAULT_RULE  # noqa: F401
 from blocwatch.pipeline.errors import UsageError
-
-DEFAULT_RULE = "weighted"
 
 
 @dataclass(frozen=True)

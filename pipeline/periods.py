@@ -26,9 +26,8 @@ from dataclasses import dataclass
 from datetime import date, timedelta
 from pathlib import Path
 
+from blocwatch.pipeline.defaults import DEFAULT_PERIOD  # noqa: F401
 from blocwatch.pipeline.errors import BadInputError, UsageError
-
-DEFAULT_PERIOD = "year"
 
 
 @dataclass(frozen=True, order=True)
