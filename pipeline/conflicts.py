@@ -15,42 +15,53 @@ from blocwatch.pipeline.validate import EXAMPLES, Problem, Problems, add_row_pro
 
 
 def reduce_votes(store: Store, staged, k: int, problems: Problems) -> str:
-    """``_bw_v{k}``: the file's votes, one row per key; contradicting duplicates are problems."""
+    """``_bw_v{k}``: the file's votes, one row per key; contradicting duplicates are problems.
+
+    Only keys given more than once are grouped into a table (``_bw_d{k}``, usually empty); the
+    votes themselves stay a view over the staged file that keeps each key's first row, so a big
+    file is neither copied nor held in a hash table of all its keys.
+    """
     table = f"_bw_v{k}"
     # Scored answers (blocwatch.pipeline.scale_load) take precedence over the code table; a
-    # binary-only load skips that join. min <> max counts "more than one choice" without the
-    # cost of count(DISTINCT).
+    # binary-only load skips that join.
     scored = bool(store.scalar("SELECT count(*) FROM (SELECT 1 FROM _bw_answers LIMIT 1)"))
     choice = "coalesce(a.choice, c.choice)" if scored else "c.choice"
     answers = """LEFT JOIN _bw_answers a ON a.body = t.body AND a.ballot_id = t.ballot_id
              AND a.raw = coalesce(t.raw, '')
         LEFT JOIN _bw_codes c ON c.raw = coalesce(t.raw, '') AND a.choice IS NULL""" if scored \
         else "JOIN _bw_codes c ON c.raw = coalesce(t.raw, '')"
-    # With one body for the whole file (--body), grouping on two keys instead of three is cheaper.
-    one_body = "body" not in staged.headers
-    body, keys = ("any_value(t.body) AS body", "t.ballot_id, t.member_id") if one_body else \
-        ("t.body", "t.body, t.ballot_id, t.member_id")
-    store.stage(table, f"""
-        SELECT {body}, t.ballot_id, t.member_id, arg_min(t.raw, t.rid) AS raw,
-               min({choice}) AS choice,
-               CASE WHEN min({choice}) = max({choice}) THEN 1 ELSE 2 END AS n_choices,
-               min(t.rid) AS rid, CAST({k} AS INTEGER) AS k
-        FROM {staged.table} t
-        {answers}
+    source = f"""FROM {staged.table} t {answers}
         WHERE t.body IS NOT NULL AND t.ballot_id IS NOT NULL AND t.member_id IS NOT NULL
-              AND {choice} IS NOT NULL
-        GROUP BY {keys}""")
-    n, = store.rows(f"SELECT count(*) FROM {table} WHERE n_choices > 1")[0]
+              AND {choice} IS NOT NULL"""
+    # With one body for the whole file (--body), grouping on two keys instead of three is cheaper.
+    keys = ["ballot_id", "member_id"] if "body" not in staged.headers else \
+        ["body", "ballot_id", "member_id"]
+    dups = f"_bw_d{k}"
+    store.stage(dups, f"""
+        SELECT {', '.join('t.' + c for c in keys)}, min(t.rid) AS first_rid,
+               min({choice}) <> max({choice}) AS differ
+        {source} GROUP BY {', '.join('t.' + c for c in keys)} HAVING count(*) > 1""")
+    repeated = bool(store.scalar(f"SELECT count(*) FROM {dups}"))
+    keep = (f"AND NOT EXISTS (SELECT 1 FROM {dups} d WHERE "
+            + " AND ".join(f"d.{c} = t.{c}" for c in keys) + " AND d.first_rid <> t.rid)") \
+        if repeated else ""
+    store.stage_view(table, f"""
+        SELECT t.body, t.ballot_id, t.member_id, t.raw, {choice} AS choice, 1 AS n_choices,
+               t.rid, CAST({k} AS INTEGER) AS k
+        {source} {keep}""")
+    n = store.scalar(f"SELECT count(*) FROM {dups} WHERE differ") if repeated else 0
     if n:
-        examples = store.rows(f"SELECT body, ballot_id, member_id FROM {table} "
-                              f"WHERE n_choices > 1 ORDER BY rid LIMIT {EXAMPLES}")
-        for body, ballot, member in examples:
-            hits = store.rows(f"SELECT rid, raw FROM {staged.table} WHERE body = ? AND "
-                              "ballot_id = ? AND member_id = ? ORDER BY rid LIMIT 2",
-                              [body, ballot, member])
-            (r1, v1), (r2, v2) = hits[0], hits[-1]
+        examples = store.rows(f"SELECT {', '.join(keys)} FROM {dups} WHERE differ "
+                              f"ORDER BY first_rid LIMIT {EXAMPLES}")
+        for key in examples:
+            match = " AND ".join(f"t.{c} = ?" for c in keys)
+            hits = store.rows(f"SELECT t.rid, t.raw, {choice} {source} AND {match} "
+                              "ORDER BY t.rid LIMIT 100", list(key))
+            (r1, v1, c1), = hits[:1]
+            r2, v2, _ = next(h for h in hits if h[2] != c1)
             first = staged.place(r1, "raw")
             at = f"line {first[0]}" if first[0] else first[1]
+            ballot, member = key[-2], key[-1]
             add_row_problem(problems, staged, "duplicate", r2, "raw", v2,
                             f"member {show(member)} votes {show(v2)} on ballot {show(ballot)} "
                             f"here and {show(v1)} at {at}",

@@ -283,7 +283,7 @@ class _Load:
                                         else None, self.staged, replace=self.replace,
                                         problems=problems)
         spells, spell_members = self._memberships(votes, combined, bal)
-        if combined and not self.replace:
+        if combined and not self.replace and self._stored_votes():
             conflicts.store_conflicts(store, combined, self.staged, problems)
         self._counts(votes, bal)
         if problems:
@@ -294,8 +294,8 @@ class _Load:
         bodies = sorted({b for r in self.results for b in r.bodies} | set(
             spells["body"].unique() if not spells.empty else []))
         ingests = self._ingest_rows()
-        for s in self.staged.values():  # the file copies are no longer needed: free the memory
-            if s.kind == "votes" and combined != s.table:
+        if combined == "_bw_votes":  # several files were combined into one table: free them
+            for s in self._of("votes").values():
                 store.drop_stage(s.table)
         with store.transaction():  # every write of the load: all or nothing
             report.votes_written = writer.write_load(
@@ -303,6 +303,12 @@ class _Load:
                 spell_members=spell_members, ingests=ingests, bodies=bodies,
                 replace=self.replace)
             scale_load.write_scales(store, default=self.scale, bodies=bodies)
+
+    def _stored_votes(self) -> bool:
+        """Whether the store holds votes of any body in this load (else nothing can clash)."""
+        bodies = sorted({b for r in self.results for b in r.bodies})
+        return bool(self.store.scalar("SELECT count(*) FROM (SELECT 1 FROM votes WHERE "
+                                      "list_contains(?, body) LIMIT 1)", [bodies]))
 
     def _names(self) -> list[str]:
         return [r.path for r in self.results]

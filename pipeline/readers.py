@@ -266,16 +266,16 @@ def _stage_csv(store: Store, path: Path, kind: str, table: str, body: str | None
                            strict=kind == "votes")
     if cols is None:
         return None
-    select, params, headers = _select(cols, header.names, kind, body, _text)
+    select, extra, headers = _select(cols, header.names, kind, body, _text)
     rej, rejscan = f"{table}_rej", f"{table}_rejscan"
-    params.update(path=str(path), delim=header.delimiter, max_line=MAX_LINE_BYTES,
+    params = dict(path=str(path), delim=header.delimiter, max_line=MAX_LINE_BYTES,
                   columns={f"c{i}": "VARCHAR" for i in range(len(header.names))})
     sql = (f"SELECT {select} FROM read_csv($path, delim=$delim, quote='\"', escape='\"', "
            f"header=true, columns=$columns, auto_detect=false, strict_mode=true, "
            f"max_line_size=$max_line, store_rejects=true, rejects_table='{rej}', "
            f"rejects_scan='{rejscan}')")
     try:
-        rows = store.stage_rows(table, sql, params)
+        rows = store.stage_rows(table, sql, params, **extra)
     except ReadError as exc:
         problems.add(Problem("file", name, f"cannot be read as CSV ({exc.reason})",
                              "check the delimiter, quoting and encoding (UTF-8)"))
@@ -293,21 +293,25 @@ def _stage_csv(store: Store, path: Path, kind: str, table: str, body: str | None
 
 def _select(cols: dict[str, int], names: list[str], kind: str, body: str | None,
             expr: Callable[[int], str]) -> tuple[str, dict, dict[str, str]]:
-    """The SELECT list mapping positions to stage columns, its parameters, and headers."""
+    """The SELECT list mapping positions to stage columns, the view's extras, and headers.
+
+    Only columns the file has are read; the others become NULL (and ``body`` the constant
+    ``body``) in the view over the staged table, so a 10-million-row file does not carry
+    10 million copies of the body name or of empty titles.
+    """
     required, optional, _ = KINDS[kind]
-    parts, headers = [], {}
-    params: dict = {}
+    parts, headers, nulls = [], {}, []
+    constants: dict = {}
     for opt in required + optional:
         stage = FIELDS[opt][0]
         if opt in cols:
             parts.append(f"{expr(cols[opt])} AS {stage}")
             headers[stage] = names[cols[opt]]
         elif opt == "body":
-            parts.append("CAST($body AS VARCHAR) AS body")
-            params["body"] = body
+            constants["body"] = body
         else:
-            parts.append(f"CAST(NULL AS VARCHAR) AS {stage}")
-    return ", ".join(parts), params, headers
+            nulls.append(stage)
+    return ", ".join(parts), {"nulls": nulls, "constants": constants}, headers
 
 
 _REJECT_KINDS = {
@@ -406,10 +410,10 @@ def _stage_parquet(store: Store, path: Path, kind: str, table: str, body: str | 
             return f"CAST(CAST(#{i + 1} AS DATE) AS VARCHAR)"
         return f"NULLIF(trim(CAST(#{i + 1} AS VARCHAR)), '')"
 
-    select, params, headers = _select(cols, names, kind, body, expr)
-    params["path"] = str(path)
+    select, extra, headers = _select(cols, names, kind, body, expr)
     try:
-        rows = store.stage_rows(table, f"SELECT {select} FROM read_parquet($path)", params)
+        rows = store.stage_rows(table, f"SELECT {select} FROM read_parquet($path)",
+                                {"path": str(path)}, **extra)
     except ReadError as exc:
         problems.add(Problem("file", name, f"cannot be read as Parquet ({exc.reason})",
                              "check that the file is a complete Parquet file"))
@@ -458,11 +462,10 @@ def _stage_json(store: Store, path: Path, kind: str, table: str, body: str | Non
                                  count=n))
     if problems_for(problems, name):
         return None
-    select, params, headers = _select(
+    select, extra, headers = _select(
         cols, names, kind, body,
         lambda i: f"NULLIF(trim(json_extract_string(#{position[i]}, '$')), '')")
-    staged.rows = store.stage_rows(table, f"SELECT {select} FROM {raw} ORDER BY rid",
-                                    params)
+    staged.rows = store.stage_rows(table, f"SELECT {select} FROM {raw} ORDER BY rid", **extra)
     staged.headers = headers
     return staged
 

@@ -323,18 +323,34 @@ class Store:
             raise ReadError(exc) from exc
         return int(self.con.execute(f"SELECT count(*) FROM {name}").fetchall()[0][0])
 
-    def stage_rows(self, name: str, sql: str, params: Sequence[Any] | dict | None = None) -> int:
+    def stage_rows(self, name: str, sql: str, params: Sequence[Any] | dict | None = None, *,
+                   nulls: Sequence[str] = (), constants: dict[str, Any] | None = None) -> int:
         """Like :meth:`stage`, with a column ``rid``: 0, 1, … in the order ``sql`` yields rows.
 
         The data lives in ``{name}_t``; ``name`` is a view adding ``rid`` from DuckDB's row ids
-        (dense and in insertion order, but offset inside a transaction, hence the base).
+        (dense and in insertion order, but offset inside a transaction, hence the base), text
+        columns ``nulls`` that are always NULL, and ``constants`` (same value on every row,
+        kept once in ``{name}_c``) — so columns a file does not have cost no memory.
         """
         check_stage(name)
         rows = self.stage(f"{name}_t", sql, params)
         base = self.con.execute(f"SELECT coalesce(min(rowid), 0) FROM {name}_t").fetchall()[0][0]
-        self.con.execute(f"CREATE OR REPLACE TEMP VIEW {name} AS "
-                         f"SELECT rowid - {int(base)} AS rid, * FROM {name}_t")
+        extra = [f"CAST(NULL AS VARCHAR) AS {_column(c)}" for c in nulls]
+        source = f"{name}_t t"
+        if constants:
+            cols = [_column(c) for c in constants]
+            self.stage(f"{name}_c", "SELECT " + ", ".join(f"CAST(? AS VARCHAR) AS {c}"
+                                                          for c in cols), list(constants.values()))
+            extra += [f"c.{c}" for c in cols]
+            source += f", {name}_c c"
+        self.con.execute(f"CREATE OR REPLACE TEMP VIEW {name} AS SELECT t.rowid - {int(base)} "
+                         f"AS rid, t.*{''.join(', ' + e for e in extra)} FROM {source}")
         return rows
+
+    def stage_view(self, name: str, sql: str) -> None:
+        """The temporary view ``name`` over staged tables (no parameters: views keep none)."""
+        check_stage(name)
+        self.con.execute(f"CREATE OR REPLACE TEMP VIEW {name} AS {sql}")
 
     def stage_frame(self, name: str, frame: pd.DataFrame) -> int:
         """Copy ``frame`` into the temporary table ``name``; return its row count."""
@@ -377,6 +393,13 @@ class Store:
 
 
 _STAGE_NAME = re.compile(r"^_bw_[a-z0-9_]{1,40}$")
+
+
+def _column(name: str) -> str:
+    if not re.fullmatch(r"[a-z_][a-z0-9_]{0,40}", name):
+        raise StoreError(f"column {name!r}", "is not a plain lower-case name",
+                         "use letters, digits and _")
+    return name
 
 
 def check_stage(name: str) -> str:

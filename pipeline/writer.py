@@ -25,7 +25,7 @@ def write_load(store: Store, *, votes: str | None, ballots: str, members: str | 
         store.execute("INSERT INTO bodies (body) SELECT ? WHERE NOT EXISTS "
                       "(SELECT 1 FROM bodies WHERE body = ?)", [body, body])
     _write_ballots(store, ballots, replace=replace)
-    written = _write_votes(store, votes, replace=replace) if votes else 0
+    written = _write_votes(store, votes, bodies, replace=replace) if votes else 0
     if members:
         store.execute(f"""INSERT INTO members (body, member_id, name)
                           SELECT body, member_id, name FROM {members}
@@ -64,9 +64,8 @@ def _write_ballots(store: Store, ballots: str, *, replace: bool) -> None:
                       b.title IS NOT NULL) OR (ballots.item IS NULL AND b.item IS NOT NULL))""")
 
 
-def _write_votes(store: Store, votes: str, *, replace: bool) -> int:
+def _write_votes(store: Store, votes: str, bodies: list[str], *, replace: bool) -> int:
     before = store.scalar("SELECT count(*) FROM votes")
-    bodies = [r[0] for r in store.rows(f"SELECT DISTINCT body FROM {votes}")]
     has_stored = bool(store.scalar("SELECT count(*) FROM (SELECT 1 FROM votes WHERE "
                                    "list_contains(?, body) LIMIT 1)", [bodies]))
     if replace and has_stored:
