@@ -14,12 +14,15 @@ from blocwatch.pipeline.store import Store
 from blocwatch.pipeline.validate import EXAMPLES, Problem, Problems, add_row_problem
 
 
-def reduce_votes(store: Store, staged, k: int, problems: Problems) -> str:
+def reduce_votes(store: Store, staged, k: int, problems: Problems, *,
+                 find_duplicates: bool = True) -> str:
     """``_bw_v{k}``: the file's votes, one row per key; contradicting duplicates are problems.
 
     Only keys given more than once are grouped into a table (``_bw_d{k}``, usually empty); the
     votes themselves stay a view over the staged file that keeps each key's first row, so a big
-    file is neither copied nor held in a hash table of all its keys.
+    file is neither copied nor held in a hash table of all its keys. Without
+    ``find_duplicates`` the search is skipped and the view keeps every row: the store's primary
+    key then catches a repeated key on insert, and the caller searches after all.
     """
     table = f"_bw_v{k}"
     # Scored answers (blocwatch.pipeline.scale_load) take precedence over the code table; a
@@ -37,6 +40,11 @@ def reduce_votes(store: Store, staged, k: int, problems: Problems) -> str:
     keys = ["ballot_id", "member_id"] if "body" not in staged.headers else \
         ["body", "ballot_id", "member_id"]
     dups = f"_bw_d{k}"
+    if not find_duplicates:
+        store.stage_view(table, f"""
+            SELECT t.body, t.ballot_id, t.member_id, t.raw, {choice} AS choice, 1 AS n_choices,
+                   t.rid, CAST({k} AS INTEGER) AS k {source}""")
+        return table
     store.stage(dups, f"""
         SELECT {', '.join('t.' + c for c in keys)}, min(t.rid) AS first_rid,
                min({choice}) <> max({choice}) AS differ

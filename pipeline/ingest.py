@@ -35,7 +35,7 @@ import pandas as pd
 
 from blocwatch.pipeline import codes as vote_codes
 from blocwatch.pipeline import conflicts, roster, scale_load, sniff, writer
-from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.errors import BadInputError, UsageError
 from blocwatch.pipeline.readers import FIELDS, KINDS, Staged, parse_columns, stage_file
 from blocwatch.pipeline.safety import check_name, show
 from blocwatch.pipeline.scales import parse_scale
@@ -72,11 +72,17 @@ class FileResult:
         if self.status == "unchanged":
             return (f"unchanged {self.path}: already loaded (sha256 {short}…), nothing written")
         body = ", ".join(self.bodies)
-        what = {"votes": f"{self.rows} rows, {self.ballots} ballots, {self.members} members",
-                "roster": f"{self.rows} roster rows, {self.members} members",
-                "ballots": f"{self.rows} rows, {self.ballots} ballots"}[self.kind]
+        rows, ballots, members = (_n(self.rows, "row"), _n(self.ballots, "ballot"),
+                                  _n(self.members, "member"))
+        what = {"votes": f"{rows}, {ballots}, {members}",
+                "roster": f"{_n(self.rows, 'roster row')}, {members}",
+                "ballots": f"{rows}, {ballots}"}[self.kind]
         return f"{self.status} {self.path}: {what}" + (f" (body {body})" if body else "") + \
             f", sha256 {short}…"
+
+
+def _n(count: int, word: str) -> str:
+    return f"{count:,} {word}{'' if count == 1 else 's'}"
 
 
 @dataclass
@@ -271,7 +277,11 @@ class _Load:
         scale_load.stage_scales(store, self.staged, default=self.scale, replace=self.replace,
                                 mapping=self.mapping, problems=problems)
         self._codes(votes)
-        vote_tables = [conflicts.reduce_votes(store, s, k, problems) for k, s in votes.items()]
+        # One file being written: leave repeated keys to the primary key (see _write).
+        self.deferred = len(votes) == 1 and not self.check_only
+        vote_tables = [conflicts.reduce_votes(store, s, k, problems,
+                                              find_duplicates=not self.deferred)
+                       for k, s in votes.items()]
         ballot_tables = [conflicts.reduce_ballots(store, s, k, problems) for k, s in
                          self._of("votes").items()]
         file_ballots = [conflicts.reduce_ballots(store, s, k, problems) for k, s in
@@ -297,12 +307,28 @@ class _Load:
         if combined == "_bw_votes":  # several files were combined into one table: free them
             for s in self._of("votes").values():
                 store.drop_stage(s.table)
-        with store.transaction():  # every write of the load: all or nothing
-            report.votes_written = writer.write_load(
-                store, votes=combined, ballots=bal, members=members, spells=spells,
-                spell_members=spell_members, ingests=ingests, bodies=bodies,
-                replace=self.replace)
-            scale_load.write_scales(store, default=self.scale, bodies=bodies)
+        def write() -> None:
+            with store.transaction():  # every write of the load: all or nothing
+                report.votes_written = writer.write_load(
+                    store, votes=combined, ballots=bal, members=members, spells=spells,
+                    spell_members=spell_members, ingests=ingests, bodies=bodies,
+                    replace=self.replace)
+                scale_load.write_scales(store, default=self.scale, bodies=bodies)
+
+        try:
+            write()
+        except BadInputError:
+            if not self.deferred:
+                raise
+            # The insert failed (rolled back): most likely a key given twice. Search now;
+            # contradicting repeats become problems, identical ones keep their first row.
+            (k, s), = votes.items()
+            conflicts.reduce_votes(store, s, k, problems)
+            if problems or not store.scalar(f"SELECT count(*) FROM _bw_d{k}"):
+                if problems:
+                    return
+                raise
+            write()
 
     def _stored_votes(self) -> bool:
         """Whether the store holds votes of any body in this load (else nothing can clash)."""

@@ -222,3 +222,14 @@ def test_body_column_instead_of_body_option(inproc, files):
         assert s.scalar("SELECT count(*) FROM ingests") == 2  # one log row per body
     proc = inproc("ingest", "toy_long.csv", "--store", "s.duckdb")
     assert proc.returncode == 65 and "pass --body NAME" in proc.stderr
+
+
+def test_identical_repeated_rows_load_once(inproc, files):
+    (files / "twice.csv").write_text("ballot_id,date,member_id,vote,group\n"
+                                     "w1,2020-04-01,A1,yes,A\nw1,2020-04-01,B1,no,B\n"
+                                     "w1,2020-04-01,A1,Aye,A\n")
+    proc = inproc("ingest", "twice.csv", "--body", "Toy", "--store", "s.duckdb", check=True)
+    assert "3 rows, 1 ballot, 2 members" in proc.stdout
+    with Store(files / "s.duckdb", read_only=True) as s:
+        assert s.rows("SELECT member_id, raw, choice FROM votes ORDER BY member_id") == [
+            ("A1", "yes", "yes"), ("B1", "no", "no")]  # the first of the two A1 rows is kept
