@@ -34,14 +34,13 @@ from pathlib import Path
 import pandas as pd
 
 from blocwatch.pipeline import codes as vote_codes
-from blocwatch.pipeline import conflicts, roster, scale_load, sniff, writer
+from blocwatch.pipeline import conflicts, memberships, scale_load, sniff, writer
 from blocwatch.pipeline.errors import BadInputError, UsageError
 from blocwatch.pipeline.readers import FIELDS, KINDS, Staged, parse_columns, stage_file
 from blocwatch.pipeline.safety import check_name, show
 from blocwatch.pipeline.scales import parse_scale
 from blocwatch.pipeline.store import Store
 from blocwatch.pipeline.validate import (
-    EXAMPLES,
     Problem,
     Problems,
     add_row_problem,
@@ -51,7 +50,6 @@ from blocwatch.pipeline.validate import (
 )
 
 LAYOUTS = ("long", "wide")
-_K = 1 << 40  # packs (file k, row) into one sortable BIGINT
 
 
 @dataclass
@@ -258,7 +256,7 @@ class _Load:
                                           "body = ?", [sha, self.body]))
         return bool(self.store.scalar("SELECT count(*) FROM ingests WHERE sha256 = ?", [sha]))
 
-    def _of(self, kind: str) -> dict[int, Staged]:
+    def of(self, kind: str) -> dict[int, Staged]:
         return {k: s for k, s in self.staged.items() if s.kind == kind}
 
     # -- check --------------------------------------------------------------------------------
@@ -273,7 +271,7 @@ class _Load:
             for col in ("held_on", "valid_from", "valid_to"):
                 if col in s.headers:
                     check_dates(store, s, col, problems, future_ok=s.kind == "roster")
-        votes = self._of("votes")
+        votes = self.of("votes")
         scale_load.stage_scales(store, self.staged, default=self.scale, replace=self.replace,
                                 mapping=self.mapping, problems=problems)
         self._codes(votes)
@@ -283,16 +281,16 @@ class _Load:
                                               find_duplicates=not self.deferred)
                        for k, s in votes.items()]
         ballot_tables = [conflicts.reduce_ballots(store, s, k, problems) for k, s in
-                         self._of("votes").items()]
+                         self.of("votes").items()]
         file_ballots = [conflicts.reduce_ballots(store, s, k, problems) for k, s in
-                        self._of("ballots").items()]
+                        self.of("ballots").items()]
         combined = conflicts.combine_votes(store, vote_tables, self._names(),
                                            replace=self.replace, problems=problems) \
             if vote_tables else None
         bal = conflicts.resolve_ballots(store, ballot_tables, file_ballots[0] if file_ballots
                                         else None, self.staged, replace=self.replace,
                                         problems=problems)
-        spells, spell_members = self._memberships(votes, combined, bal)
+        spells, spell_members = memberships.check(self, votes, combined, bal)
         if combined and not self.replace and self._stored_votes():
             conflicts.store_conflicts(store, combined, self.staged, problems)
         self._counts(votes, bal)
@@ -305,7 +303,7 @@ class _Load:
             spells["body"].unique() if not spells.empty else []))
         ingests = self._ingest_rows()
         if combined == "_bw_votes":  # several files were combined into one table: free them
-            for s in self._of("votes").values():
+            for s in self.of("votes").values():
                 store.drop_stage(s.table)
         def write() -> None:
             with store.transaction():  # every write of the load: all or nothing
@@ -359,125 +357,11 @@ class _Load:
             {"raw": pd.Series(list(table), dtype=object).astype(str),
              "choice": pd.Series(list(table.values()), dtype=object)}))
 
-    def _memberships(self, votes: dict[int, Staged], combined: str | None, bal: str):
-        store, problems = self.store, self.problems
-        rosters = self._of("roster")
-        bodies = sorted({b for k in self.staged for b in self.results[k].bodies})
-        stored = roster.stored_spells(store, bodies)
-        new_roster = pd.concat([roster.roster_spells(store, s, problems, self.bad_members)
-                                .assign(k=k) for k, s in rosters.items()]) if rosters else None
-        grouped = {k: s for k, s in votes.items() if "group_name" in s.headers}
-        obs = self._observations(grouped, bal) if grouped else None
-        if new_roster is not None:
-            if obs:
-                self._roster_agrees(obs, new_roster, grouped)
-            merged = roster.merge(stored, new_roster, replace="all" if self.replace else None,
-                                  staged_by_k=self.staged, problems=problems)
-            affected = new_roster[["body", "member_id"]].drop_duplicates()
-        elif obs:
-            derived = roster.derived_spells(store, obs)
-            merged = roster.merge(stored, derived, replace="clip" if self.replace else None,
-                                  staged_by_k=self.staged, problems=problems)
-            affected = derived[["body", "member_id"]].drop_duplicates()
-        else:
-            merged = pd.DataFrame(columns=roster.SPELL_COLUMNS)
-            affected = pd.DataFrame(columns=["body", "member_id"])
-        # Spells derived from a group column cover every vote that gave a group, by construction.
-        covered = not rosters and len(grouped) == len(votes) and not any(
-            s.nulls.get("group_name") for s in grouped.values())
-        if combined:
-            self._coverage(stored, merged, affected, combined, bal, derived_only=covered)
-        return merged, affected
-
-    def _observations(self, grouped: dict[int, Staged], bal: str) -> str | None:
-        parts = [f"""SELECT t.body, t.member_id, b.held_on, t.group_name, min(t.rid) AS rid,
-                            CAST({k} AS INTEGER) AS k FROM {s.table} t JOIN {bal} b
-                     ON b.body = t.body AND b.ballot_id = t.ballot_id
-                     WHERE t.group_name IS NOT NULL AND t.member_id IS NOT NULL
-                           AND b.held_on IS NOT NULL GROUP BY ALL""" for k, s in grouped.items()]
-        self.store.stage("_bw_obs_all", " UNION ALL ".join(parts))
-        for member, day, groups, ks, rids in self.store.rows(f"""
-                WITH bad AS (SELECT body, member_id, held_on FROM _bw_obs_all
-                             GROUP BY body, member_id, held_on
-                             HAVING min(group_name) <> max(group_name) LIMIT {EXAMPLES})
-                SELECT o.member_id, o.held_on, list(o.group_name ORDER BY o.rid),
-                       list(o.k ORDER BY o.rid), list(o.rid ORDER BY o.rid)
-                FROM _bw_obs_all o JOIN bad USING (body, member_id, held_on)
-                GROUP BY o.body, o.member_id, o.held_on ORDER BY min(o.rid)"""):
-            i = next(i for i, g in enumerate(groups) if g != groups[0])
-            add_row_problem(self.problems, self.staged[ks[i]], "member", rids[i], "group_name",
-                            groups[i], f"member {show(member)} is in group {show(groups[i])} "
-                            f"here but in {show(groups[0])} elsewhere on the same date {day}",
-                            "give a member one group per date")
-        self.store.stage("_bw_obs", """SELECT body, member_id, held_on, min(group_name) AS
-                         group_name, min(rid) AS rid, min(k) AS k FROM _bw_obs_all
-                         GROUP BY body, member_id, held_on""")
-        return "_bw_obs"
-
-    def _roster_agrees(self, obs: str, spells: pd.DataFrame, grouped: dict[int, Staged]) -> None:
-        self.store.stage_frame("_bw_roster_spells", spells[roster.SPELL_COLUMNS])
-        for k, rid, member, day, got, want in self.store.rows(f"""
-                SELECT o.k, o.rid, o.member_id, o.held_on, o.group_name, s.group_name
-                FROM {obs} o JOIN _bw_roster_spells s ON s.body = o.body
-                AND s.member_id = o.member_id AND o.held_on BETWEEN CAST(s.valid_from AS DATE)
-                AND CAST(s.valid_to AS DATE) WHERE s.group_name <> o.group_name
-                ORDER BY o.k, o.rid LIMIT {EXAMPLES}"""):
-            add_row_problem(self.problems, grouped[k], "member", rid, "group_name", got,
-                            f"member {show(member)} is in group {show(got)} on {day} here, but "
-                            f"in {show(want)} in the roster", "make the votes file and the "
-                            "roster agree, or leave the group column out")
-
-    def _coverage(self, stored, merged, affected, combined: str, bal: str, *,
-                  derived_only: bool) -> None:
-        """Members without any group, and cast votes outside every spell (when groups exist)."""
-        keep = stored.merge(affected, on=["body", "member_id"], how="left", indicator=True)
-        keep = keep[keep["_merge"] == "left_only"].drop(columns="_merge")
-        final = pd.concat([keep, merged], ignore_index=True)
-        if final.empty:
-            self.notes.append("note: no groups are known for this body yet — load a roster "
-                              "with --members (or a group column) before 'blocwatch build'")
-            return
-        if derived_only:
-            return
-        frame = final[roster.SPELL_COLUMNS].copy()
-        frame["valid_from"] = pd.to_datetime(frame["valid_from"].astype(str))
-        frame["valid_to"] = pd.to_datetime(frame["valid_to"].astype(str), errors="coerce") \
-            .fillna(pd.Timestamp("2262-04-11"))
-        self.store.stage_frame("_bw_spells", frame)
-        missing = self.store.rows(f"""
-            SELECT n.k, min(n.rid), n.member_id, count(*) FROM {combined} n
-            WHERE n.body IN (SELECT DISTINCT body FROM _bw_spells) AND NOT EXISTS (SELECT 1 FROM
-              _bw_spells s WHERE s.body = n.body AND s.member_id = n.member_id)
-              AND NOT list_contains(?, n.member_id)
-            GROUP BY n.k, n.member_id ORDER BY n.k, min(n.rid)""", [sorted(self.bad_members)])
-        for k, rid, member, n in missing[:EXAMPLES * 4]:
-            add_row_problem(self.problems, self.staged[k], "member", rid, "member_id", member,
-                            f"member {show(member)} is not in the roster (no group known)",
-                            "add the member to the roster file (--members), or give the votes "
-                            "file a group column", count=n)
-        # One row per member and date first (members x dates, not votes), then the spell test.
-        uncovered = self.store.rows(f"""
-            WITH d AS (SELECT n.body, n.member_id, b.held_on,
-                              min(n.k * {_K} + n.rid) AS key FROM {combined} n JOIN {bal} b
-                       ON b.body = n.body AND b.ballot_id = n.ballot_id
-                       WHERE n.choice <> 'absent' AND b.held_on IS NOT NULL
-                       GROUP BY n.body, n.member_id, b.held_on)
-            SELECT key // {_K}, key % {_K}, member_id, held_on FROM d
-            WHERE NOT list_contains(?, member_id) AND EXISTS (SELECT 1 FROM _bw_spells s
-              WHERE s.body = d.body AND s.member_id = d.member_id) AND NOT EXISTS (SELECT 1
-              FROM _bw_spells s WHERE s.body = d.body AND s.member_id = d.member_id AND
-              d.held_on BETWEEN CAST(s.valid_from AS DATE) AND CAST(s.valid_to AS DATE))
-            ORDER BY key LIMIT {EXAMPLES}""", [sorted(self.bad_members)])
-        for k, rid, member, day in uncovered:
-            add_row_problem(self.problems, self.staged[k], "member", rid, "member_id", member,
-                            f"member {show(member)} votes on {day} but has no group on that "
-                            "date", "extend the member's valid_from/valid_to in the roster")
-
     def _members(self, votes: dict[int, Staged]) -> str | None:
         parts = [f"SELECT body, member_id, name, rid, 0 AS src FROM {s.table} "
                  "WHERE member_id IS NOT NULL" for s in votes.values()]
         parts += [f"SELECT body, member_id, name, rid, 1 AS src FROM {s.table} "
-                  "WHERE member_id IS NOT NULL" for s in self._of("roster").values()]
+                  "WHERE member_id IS NOT NULL" for s in self.of("roster").values()]
         if not parts:
             return None
         self.store.stage("_bw_members", f"""
