@@ -166,7 +166,8 @@ def resolve_ballots(store: Store, vote_ballots: list[str], file_ballots: str | N
     if not parts:
         store.stage("_bw_bal", "SELECT CAST(NULL AS VARCHAR) AS body, CAST(NULL AS VARCHAR) AS "
                     "ballot_id, CAST(NULL AS DATE) AS held_on, CAST(NULL AS VARCHAR) AS title, "
-                    "CAST(NULL AS VARCHAR) AS item WHERE false")
+                    "CAST(NULL AS VARCHAR) AS item, 0 AS k, CAST(0 AS BIGINT) AS rid, "
+                    "CAST(NULL AS DATE) AS stored_on, false AS bad_date WHERE false")
         return "_bw_bal"
     store.stage("_bw_ball", " UNION ALL ".join(parts))
     # A date given in the votes files and a different one in the ballots file.

@@ -233,3 +233,21 @@ def test_identical_repeated_rows_load_once(inproc, files):
     with Store(files / "s.duckdb", read_only=True) as s:
         assert s.rows("SELECT member_id, raw, choice FROM votes ORDER BY member_id") == [
             ("A1", "yes", "yes"), ("B1", "no", "no")]  # the first of the two A1 rows is kept
+
+
+def test_roster_and_ballots_alone_then_votes(inproc, files):
+    """A roster or a ballots file can come first; later votes use what is stored."""
+    inproc("ingest", "--members", "toy_roster.csv", "--body", "Toy", "--store", "s.duckdb",
+           check=True)
+    inproc("ingest", "--ballots", "toy_ballots.csv", "--body", "Toy", "--store", "s.duckdb",
+           check=True)
+    (files / "nodates.csv").write_text("\n".join(
+        ",".join(cell for i, cell in enumerate(line.split(",")) if i != 1)
+        for line in (files / "toy_votes_nogroup.csv").read_text().splitlines()) + "\n")
+    inproc("ingest", "nodates.csv", "--body", "Toy", "--store", "s.duckdb", check=True)
+    assert _votes(files / "s.duckdb") == EXPECTED
+    with Store(files / "s.duckdb", read_only=True) as s:
+        assert dict(s.rows("SELECT ballot_id, title FROM ballots"))["v1"] == "Harbour levy"
+    (files / "stranger.csv").write_text("ballot_id,member_id,vote\nv1,Z9,yes\n")
+    proc = inproc("ingest", "stranger.csv", "--body", "Toy", "--store", "s.duckdb")
+    assert proc.returncode == 65 and "member 'Z9' is not in the roster" in proc.stderr
