@@ -109,7 +109,7 @@ def reduce_ballots(store: Store, staged, k: int, problems: Problems) -> str:
     return table
 
 
-def combine_votes(store: Store, tables: list[str], names: list[str], *, replace: bool,
+def combine_votes(store: Store, tables: list[str], staged_by_k: dict, *, replace: bool,
                   problems: Problems) -> str:
     """``_bw_votes``: all files' votes; a later file wins with ``replace``, else a clash is a
     problem."""
@@ -122,13 +122,15 @@ def combine_votes(store: Store, tables: list[str], names: list[str], *, replace:
                count(DISTINCT choice) AS n_files_choices, min(k) AS k_first
         FROM ({union}) GROUP BY body, ballot_id, member_id""")
     if not replace:
-        rows = store.rows(f"""SELECT ballot_id, member_id, k_first, k, choice FROM _bw_votes
-                              WHERE n_files_choices > 1 LIMIT {EXAMPLES}""")
-        for ballot, member, k1, k2, choice in rows:
-            problems.add(Problem("conflict", names[k2], f"gives member {show(member)} the vote "
-                                 f"{choice} on ballot {show(ballot)}, which {names[k1]} gives "
-                                 "differently", "load the corrected file alone with --replace, "
-                                 "or fix one of the two", value=member))
+        rows = store.rows(f"""SELECT ballot_id, member_id, k_first, k, rid, raw, choice
+                              FROM _bw_votes WHERE n_files_choices > 1
+                              ORDER BY k, rid LIMIT {EXAMPLES}""")
+        for ballot, member, k1, k2, rid, raw, choice in rows:
+            add_row_problem(problems, staged_by_k[k2], "conflict", rid, "raw", raw,
+                            f"member {show(member)} votes {_vote(raw, choice)} on ballot "
+                            f"{show(ballot)} here, but differently in {staged_by_k[k1].name}",
+                            "load the corrected file alone with --replace, or fix one of the "
+                            "two")
     return "_bw_votes"
 
 

@@ -284,7 +284,7 @@ class _Load:
                          self.of("votes").items()]
         file_ballots = [conflicts.reduce_ballots(store, s, k, problems) for k, s in
                         self.of("ballots").items()]
-        combined = conflicts.combine_votes(store, vote_tables, self._names(),
+        combined = conflicts.combine_votes(store, vote_tables, self.staged,
                                            replace=self.replace, problems=problems) \
             if vote_tables else None
         bal = conflicts.resolve_ballots(store, ballot_tables, file_ballots[0] if file_ballots
@@ -333,9 +333,6 @@ class _Load:
         bodies = sorted({b for r in self.results for b in r.bodies})
         return bool(self.store.scalar("SELECT count(*) FROM (SELECT 1 FROM votes WHERE "
                                       "list_contains(?, body) LIMIT 1)", [bodies]))
-
-    def _names(self) -> list[str]:
-        return [r.path for r in self.results]
 
     def _codes(self, votes: dict[int, Staged]) -> None:
         table: dict[object, str] = {"": "absent"}

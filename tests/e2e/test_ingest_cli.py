@@ -251,3 +251,15 @@ def test_roster_and_ballots_alone_then_votes(inproc, files):
     (files / "stranger.csv").write_text("ballot_id,member_id,vote\nv1,Z9,yes\n")
     proc = inproc("ingest", "stranger.csv", "--body", "Toy", "--store", "s.duckdb")
     assert proc.returncode == 65 and "member 'Z9' is not in the roster" in proc.stderr
+
+
+def test_two_files_that_disagree(inproc, files):
+    _flipped(files)
+    proc = inproc("ingest", "toy_long.csv", "flipped.csv", "--body", "Toy", "--store",
+                  "s.duckdb")
+    assert proc.returncode == 65
+    assert "flipped.csv:2, column 'vote': member 'A1' votes 'Nay' (no) on ballot 'v1' here, " \
+           "but differently in toy_long.csv" in proc.stderr
+    inproc("ingest", "toy_long.csv", "flipped.csv", "--replace", "--body", "Toy", "--store",
+           "s.duckdb", check=True)
+    assert _votes(files / "s.duckdb") == {**EXPECTED, ("v1", "A1"): "no"}  # the later file wins
