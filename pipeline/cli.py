@@ -56,8 +56,8 @@ def store_option(func):
 
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(package_name="blocwatch")
-@click.option("--debug", is_flag=True, help="Show a traceback on errors.")
-@click.option("--quiet", "-q", is_flag=True, help="No progress output.")
+@click.option("--debug", is_flag=True, default=False, help="Show a traceback on errors.")
+@click.option("--quiet", "-q", is_flag=True, default=False, help="No progress output.")
 @click.option("--config", "config_path", type=click.Path(), envvar="BLOCWATCH_CONFIG",
               default=None, help="Project config file (default: ./blocwatch.toml if present; "
                                  "env BLOCWATCH_CONFIG). Flags win over its values.")
@@ -151,11 +151,11 @@ def build_flags(func):
                      default=DEFAULT_EXPENSIVE_REPLICATES, show_default=True,
                      help="At most this many replicates and permutations for costly metrics "
                           "(Louvain, cross-validated fits, ideal points)."),
-        click.option("--abstain-as-position", is_flag=True,
+        click.option("--abstain-as-position", is_flag=True, default=False,
                      help="Count abstain as a third position (default: like an absence)."),
         click.option("--min-shared", type=click.IntRange(min=1), default=DEFAULT_MIN_SHARED,
                      show_default=True, help="Fewest shared ballots for a pair to have an edge."),
-        click.option("--keep-unanimous", is_flag=True,
+        click.option("--keep-unanimous", is_flag=True, default=False,
                      help="Keep unanimous ballots (default: left out)."),
         click.option("--lopsided", type=click.FloatRange(0, 0.5), default=DEFAULT_LOPSIDED,
                      show_default=True, help="Leave out ballots whose minority share is below."),
@@ -315,7 +315,7 @@ def demo(ctx, out, seed, bootstrap, jobs):
 @click.argument("directory", default=".", type=click.Path(file_okay=False))
 @click.option("--body", default=None,
               help="Name of the first body (its [bodies] table is written active).")
-@click.option("--force", is_flag=True, help="Overwrite an existing blocwatch.toml.")
+@click.option("--force", is_flag=True, default=False, help="Overwrite an existing blocwatch.toml.")
 @handle_errors
 def init(directory, body, force):
     """Write a commented blocwatch.toml (and a data/ folder) into DIRECTORY."""
@@ -330,7 +330,8 @@ def init(directory, body, force):
 @cli.command()
 @store_option
 @click.option("--body", default=None, help="Only this configured body (default: all).")
-@click.option("--full", is_flag=True, help="Recompute every period and rewrite the report.")
+@click.option("--full", is_flag=True, default=False,
+              help="Recompute every period and rewrite the report.")
 @click.option("--out", type=click.Path(file_okay=False), default=None,
               help="Report folder (default: the config's output, else ./blocwatch-report).")
 @click.option("--report/--no-report", "with_report", default=True, show_default=True,
@@ -369,7 +370,7 @@ def rebuild(ctx, store_path, body, full, out, with_report, images, **flags):
 @cli.command()
 @store_option
 @click.option("--body", default=None, help="Only this body.")
-@click.option("--json", "as_json", is_flag=True, help="Print the status as JSON.")
+@click.option("--json", "as_json", is_flag=True, default=False, help="Print the status as JSON.")
 @build_flags
 @handle_errors
 def status(store_path, body, as_json, **flags):
@@ -384,7 +385,7 @@ def status(store_path, body, as_json, **flags):
 
 
 @cli.command()
-@click.option("--cron", is_flag=True, help="Print a crontab line.")
+@click.option("--cron", is_flag=True, default=False, help="Print a crontab line.")
 @click.option("--systemd", "systemd_dir", type=click.Path(file_okay=False), default=None,
               help="Write NAME.service and NAME.timer into this folder.")
 @click.option("--project", type=click.Path(file_okay=False), default=None,
@@ -439,10 +440,10 @@ def schedule(cron, systemd_dir, project, when, at, name, user):
               help="Read FIELD from the column HEADER, e.g. --column member=MP_ID (repeatable; "
                    "fields: body ballot date member vote group name title item valid_from "
                    "valid_to).")
-@click.option("--replace", is_flag=True,
+@click.option("--replace", is_flag=True, default=False,
               help="Let the files overwrite stored ballots, votes and memberships they "
                    "contradict (default: a conflict is an error).")
-@click.option("--check", is_flag=True,
+@click.option("--check", is_flag=True, default=False,
               help="Only check: list every problem, grouped and counted; write nothing.")
 @click.option("--scale", default=None, metavar="SPEC",
               help="Scale of ballots that declare none: binary (default), categorical:A|B|C, "
