@@ -275,8 +275,11 @@ class _Load:
         scale_load.stage_scales(store, self.staged, default=self.scale, replace=self.replace,
                                 mapping=self.mapping, problems=problems)
         self._codes(votes)
-        # One file being written: leave repeated keys to the primary key (see _write).
-        self.deferred = len(votes) == 1 and not self.check_only
+        # One file being written: leave repeated keys to the votes primary key, searched only
+        # if the insert trips it (see write() below). Without such a key, search up front.
+        self.deferred = len(votes) == 1 and not self.check_only and bool(store.scalar(
+            "SELECT count(*) FROM duckdb_constraints() WHERE table_name = 'votes' "
+            "AND constraint_type = 'PRIMARY KEY'"))
         vote_tables = [conflicts.reduce_votes(store, s, k, problems,
                                               find_duplicates=not self.deferred)
                        for k, s in votes.items()]
