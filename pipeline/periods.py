@@ -79,6 +79,7 @@ def read_terms(path: str | Path) -> list[Period]:
     if not path.exists():
         raise UsageError(f"terms file {path}", "does not exist", "check the path in terms:FILE")
     terms: list[Period] = []
+    lines: dict[str, int] = {}
     with path.open(newline="", encoding="utf-8-sig") as fh:
         reader = csv.DictReader(fh)
         missing = {"name", "start", "end"} - set(reader.fieldnames or [])
@@ -95,12 +96,15 @@ def read_terms(path: str | Path) -> list[Period]:
                 raise BadInputError(f"{path}:{line}", f"term {row['name']!r} ends before it "
                                     "starts", "swap start and end")
             terms.append(Period(start, end, row["name"].strip()))
+            lines.setdefault(row["name"].strip(), line)
     if not terms:
         raise BadInputError(str(path), "holds no terms", "add one row per term")
     terms.sort()
     for a, b in zip(terms, terms[1:]):
         if b.start <= a.end:
-            raise BadInputError(str(path), f"terms {a.name!r} and {b.name!r} overlap",
+            raise BadInputError(f"{path}:{lines[b.name]}", f"terms {a.name!r} and {b.name!r} "
+                                f"overlap ({b.name!r} starts {b.start}, before {a.name!r} on "
+                                f"line {lines[a.name]} ends {a.end})",
                                 "make each term end before the next starts")
     names = [t.name for t in terms]
     if len(set(names)) != len(names):

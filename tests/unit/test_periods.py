@@ -41,7 +41,8 @@ def test_terms(tmp_path):
 def test_overlapping_terms_are_bad_input(tmp_path):
     f = tmp_path / "terms.csv"
     f.write_text("name,start,end\na,2001-01-01,2004-12-31\nb,2004-06-01,2008-12-31\n")
-    with pytest.raises(BadInputError, match="overlap"):
+    with pytest.raises(BadInputError, match=r"terms.csv:3: terms 'a' and 'b' overlap "
+                       r"\('b' starts 2004-06-01, before 'a' on line 2"):
         read_terms(f)
 
 
