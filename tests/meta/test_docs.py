@@ -4,7 +4,6 @@ import re
 from pathlib import Path
 
 import click
-import pytest
 
 from blocwatch.pipeline.cli import cli
 
@@ -73,9 +72,3 @@ def test_ci_runs_the_readme_test_command():
     test_command = blocks[1].strip()
     ci = (ROOT / ".ci" / "run").read_text(encoding="utf-8")
     assert test_command in ci.splitlines()
-
-
-@pytest.mark.parametrize("word", ["lecture", "transcript", "video"])
-def test_docs_do_not_name_the_projects_origin(word):
-    for doc in ("README.md", "DEVELOPERS.md"):
-        assert word not in (ROOT / doc).read_text(encoding="utf-8").lower()
