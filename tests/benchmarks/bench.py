@@ -36,6 +36,7 @@ sys.path.insert(0, str(HERE))
 
 import baselines  # noqa: E402
 import synth  # noqa: E402
+from national import tree_rss  # noqa: E402
 
 SIZES = {
     # agreement: members × ballots of the kernel test; national: the body built end to end.
@@ -155,21 +156,6 @@ def period_stages(size: synth.Size, bootstrap: int, permutations: int, repeats: 
 
 # -- child processes (memory is sampled over the whole tree) ------------------------------
 
-def tree_rss(pid: int) -> int:
-    """Resident bytes of ``pid`` and all its descendants (Linux /proc)."""
-    total, todo = 0, [pid]
-    while todo:
-        p = todo.pop()
-        try:
-            status = Path(f"/proc/{p}/status").read_text()
-            total += int(status.split("VmRSS:")[1].split()[0]) * 1024
-            for task in Path(f"/proc/{p}/task").iterdir():
-                todo += [int(c) for c in (task / "children").read_text().split()]
-        except (OSError, IndexError, ValueError):
-            continue
-    return total
-
-
 def in_child(job: dict) -> dict:
     """Run ``national.run_child(job)`` in a fresh interpreter; add its peak tree memory."""
     proc = subprocess.Popen([sys.executable, str(HERE / "national.py"), json.dumps(job)],
@@ -212,6 +198,9 @@ def print_tables(res: dict, cfg: dict, args) -> None:
     for stage in ("ingest", "matrices", "build", "rebuild", "report"):
         print(f"  {stage:32} {_fmt(e2e[stage])}")
     print(f"  {'peak memory (process tree)':32} {e2e['peak_bytes'] / 2**30:9.2f} GB")
+    for phase in ("ingest", "build", "rebuild", "report"):
+        if f"peak_{phase}" in e2e:
+            print(f"  {'  during ' + phase:32} {e2e[f'peak_{phase}'] / 2**30:9.2f} GB")
     print_targets(res, cfg)
 
 
@@ -225,7 +214,8 @@ def target_rows(res: dict, cfg: dict) -> list[tuple[str, str, str, str, bool]]:
         f" (projected from {e2e['built_periods']}/{nat.periods} periods)"
     total = e2e["ingest"] + e2e["build_full"]
     share = e2e["rebuild_full"] / e2e["build_full"]
-    peak = res["national"]["peak_bytes"] / 2**30
+    peak = e2e["peak_bytes"] / 2**30
+    build_peak = e2e.get("peak_build", 0) / 2**30
     t = TARGETS
     return [
         (f"agreement {n}×{b} vs bare product", f"{_fmt(ag['agreement']).strip()}",
@@ -236,8 +226,9 @@ def target_rows(res: dict, cfg: dict) -> list[tuple[str, str, str, str, bool]]:
         (f"ingest + build, {nat.periods}×{nat.members}×{nat.ballots}, B={cfg['bootstrap']}",
          f"{total:.1f} s{proj}", f"{total / t['build_seconds']:.2f}× budget",
          f"≤ {t['build_seconds']:g} s", total <= t["build_seconds"]),
-        ("peak memory of that build", f"{peak:.2f} GB", f"{peak / t['build_peak_gb']:.2f}× budget",
-         f"≤ {t['build_peak_gb']:g} GB", peak <= t["build_peak_gb"]),
+        ("peak memory of that ingest + build", f"{peak:.2f} GB (build alone {build_peak:.2f})",
+         f"{peak / t['build_peak_gb']:.2f}× budget", f"≤ {t['build_peak_gb']:g} GB",
+         peak <= t["build_peak_gb"]),
         ("rebuild after one new period", f"{e2e['rebuild_full']:.1f} s{proj}",
          f"{share:.1%} of full", f"≤ {t['rebuild_share']:.0%}", share <= t["rebuild_share"]),
         ("ingest Parquet", f"{res['ingest']['parquet']:,.0f} rows/s",

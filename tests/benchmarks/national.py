@@ -7,7 +7,9 @@ process tree's memory, so nothing else of the benchmark is resident here.
 from __future__ import annotations
 
 import json
+import os
 import sys
+import threading
 import time
 from pathlib import Path
 
@@ -18,6 +20,35 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 import synth  # noqa: E402
 
 BODY = "Synthetic Chamber"
+
+
+def tree_rss(pid: int) -> int:
+    """Resident bytes of ``pid`` and all its descendants (Linux /proc)."""
+    total, todo = 0, [pid]
+    while todo:
+        p = todo.pop()
+        try:
+            status = Path(f"/proc/{p}/status").read_text()
+            total += int(status.split("VmRSS:")[1].split()[0]) * 1024
+            for task in Path(f"/proc/{p}/task").iterdir():
+                todo += [int(c) for c in (task / "children").read_text().split()]
+        except (OSError, IndexError, ValueError):
+            continue
+    return total
+
+
+class PhasePeaks:
+    """Samples this process tree's memory every 0.1 s; peak bytes per named phase."""
+
+    def __init__(self):
+        self.phase, self.peaks = "start", {}
+        threading.Thread(target=self._run, daemon=True).start()
+
+    def _run(self):
+        while True:
+            rss = tree_rss(os.getpid())
+            self.peaks[self.phase] = max(self.peaks.get(self.phase, 0), rss)
+            time.sleep(0.1)
 
 
 def _ingest(store, votes: str | Path, roster: str | Path) -> float:
@@ -50,8 +81,11 @@ def national(job: dict) -> dict:
     opts = BuildOptions(period=spec, bootstrap=job["bootstrap"],
                         permutations=job["permutations"])
     out: dict = {"built_periods": k}
+    peaks = PhasePeaks()
     with Store(job["store"]) as store:
+        peaks.phase = "ingest"
         out["ingest"] = _ingest(store, job["votes"], job["roster"])
+        peaks.phase = "build"
         periods = body_periods(store, BODY, "year")
         sample = periods[:: max(1, len(periods) // 3)][:3]
         t0 = time.perf_counter()
@@ -63,6 +97,7 @@ def national(job: dict) -> dict:
             t0 = time.perf_counter()
             build(store, options=opts, executor=pool)
             out["build"] = time.perf_counter() - t0
+            peaks.phase = "rebuild"
             out["build_full"] = out["build"] * size.periods / k
             # One new year arrives: load it, then rebuild only what changed.
             files = synth.SynthFiles(Path(job["votes"]), Path(job["roster"]), size.rows)
@@ -82,7 +117,9 @@ def national(job: dict) -> dict:
         assert len(report.periods) == 1, report.periods
         # Projection: a full-size rebuild also fingerprints the periods not built here.
         out["rebuild_full"] = out["rebuild"] + (size.periods - k) * out["matrices"]
+        peaks.phase = "report"
         out["report"] = _report(store, work / "report")
+    out.update({f"peak_{k}": v for k, v in peaks.peaks.items()})
     return out
 
 
