@@ -17,6 +17,8 @@ Kinds
 ``local`` with ``jobs=N > 1``
     a pool of N worker processes (``forkserver``: workers do not inherit the open store),
     each limited to ``cores // N`` BLAS threads so they do not oversubscribe the machine.
+    A script that builds with N > 1 needs the usual ``if __name__ == "__main__":`` guard:
+    worker processes import the main module.
 ``dask``
     submits each job to a ``dask.distributed`` scheduler at ``scheduler``
     (e.g. ``tcp://10.0.0.5:8786``), or to a local cluster of ``jobs`` worker processes when no
