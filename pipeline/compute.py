@@ -160,6 +160,9 @@ def compute_period(vm: VoteMatrix, opts: BuildOptions, version: str) -> PeriodRe
     labels = vm.labels
     inp = period_input(vm.votes, labels, opts, seed, scales=vm.scales)
     values = compute_all(inp)
+    # Member scores right after the point estimates: they reuse the period's cached fits
+    # (ideal points), which the bootstrap's replicate fits would push out of the cache.
+    members = _member_rows(vm, inp)
     names = list(values)
     intervals = _bootstrap(vm, labels, opts, seed, names)
     nulls = _nulls(inp, opts, seed)
@@ -173,7 +176,7 @@ def compute_period(vm: VoteMatrix, opts: BuildOptions, version: str) -> PeriodRe
     metrics = pd.DataFrame(rows, columns=METRIC_COLUMNS)
     return PeriodResult(vm.body, vm.period.name, vm.period.start, vm.period.end, inp.n,
                         int(vm.votes.shape[1]), vm.dropped, fp, metrics,
-                        _member_rows(vm, inp), _group_rows(vm, inp))
+                        members, _group_rows(vm, inp))
 
 
 def _member_rows(vm: VoteMatrix, inp: PeriodInput) -> pd.DataFrame:
