@@ -4,8 +4,8 @@ Importing this package registers every metric family in :mod:`blocwatch.metrics.
 This package never imports duckdb, plotly, click or the other blocwatch packages.
 """
 
-from . import registry
-from .registry import FAMILIES, MetricValue, PeriodInput, compute_all, metric_names
+from blocwatch.metrics import registry
+from blocwatch.metrics.registry import FAMILIES, MetricValue, PeriodInput, compute_all, metric_names
 
 # Metric family modules register themselves on import (order = export order).
 # FAMILY-IMPORTS-BEGIN
