@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import contextlib
 import json
 from collections.abc import Callable, Collection, Iterable, Iterator
 from dataclasses import dataclass, field
@@ -27,6 +28,35 @@ class BuildReport:
     periods: list[tuple[str, str]] = field(default_factory=list)  # (body, period) computed
     skipped: list[tuple[str, str]] = field(default_factory=list)  # unchanged, not recomputed
     seconds: dict[tuple[str, str], float] = field(default_factory=dict)
+
+
+@contextlib.contextmanager
+def recorded_run(store: Store, command: str, params: dict, executor=None,
+                 inputs: dict | None = None) -> Iterator[tuple[BuildReport, Executor]]:
+    """A ``runs`` row and an executor for one build: the run is marked ``ok`` or ``failed``
+    when the block ends, and an executor made here (not one passed in open) is closed."""
+    pool = executor if isinstance(executor, Executor) else make_executor(executor)
+    report = BuildReport(start_run(store, command, params, inputs))
+    try:
+        yield report, pool
+    except BaseException:
+        finish_run(store, report.run_id, "failed", report.periods)
+        raise
+    else:
+        finish_run(store, report.run_id, "ok", report.periods)
+    finally:
+        if pool is not executor:
+            pool.close()
+
+
+def store_result(store: Store, report: BuildReport, res: PeriodResult, seconds: float,
+                 progress: Callable[[str], None] | None) -> None:
+    """Write one computed period and note it in the report (the single writer's step)."""
+    write_period(store, report.run_id, res)
+    report.periods.append((res.body, res.period_name))
+    report.seconds[(res.body, res.period_name)] = seconds
+    if progress:
+        progress(f"{res.body} {res.period_name}")
 
 
 def bodies(store: Store, body: str | None = None) -> list[str]:
@@ -134,10 +164,8 @@ def build(store: Store, *, body: str | None = None, options: BuildOptions | None
     opts = options or BuildOptions()
     version = tool_version()
     targets = bodies(store, body)
-    pool = executor if isinstance(executor, Executor) else make_executor(executor)
-    run_id = start_run(store, command, {"body": body, **opts.params()}, inputs)
-    report = BuildReport(run_id)
-    try:
+    with recorded_run(store, command, {"body": body, **opts.params()}, executor,
+                      inputs) as (report, pool):
         for b in targets:
             periods = body_periods(store, b, opts.period)
             stored = dict(store.rows("SELECT period, fingerprint FROM periods WHERE body = ?",
@@ -149,18 +177,7 @@ def build(store: Store, *, body: str | None = None, options: BuildOptions | None
             jobs = _period_matrices(store, b, todo, opts, version,
                                     stored if only_changed else None, report)
             for res, seconds in pool.map(PeriodJob(opts, version), jobs):
-                write_period(store, run_id, res)
-                report.periods.append((b, res.period_name))
-                report.seconds[(b, res.period_name)] = seconds
-                if progress:
-                    progress(f"{b} {res.period_name}")
+                store_result(store, report, res, seconds, progress)
             drop_stale_periods(store, b, [p.name for p in periods])
-            write_trends(store, run_id, b)
-    except BaseException:
-        finish_run(store, run_id, "failed", report.periods)
-        raise
-    finally:
-        if pool is not executor:
-            pool.close()
-    finish_run(store, run_id, "ok", report.periods)
+            write_trends(store, report.run_id, b)
     return report

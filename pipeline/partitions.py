@@ -173,35 +173,20 @@ def build_partitions(store, root: str | Path, results: str | Path, *, options=No
                      executor=None, progress=None):
     """Compute every vote partition under ``root`` on ``executor`` and merge the results
     (written under ``results``) into ``store``; returns the build report."""
-    from blocwatch.pipeline.build import BuildReport, write_period, write_trends
+    from blocwatch.pipeline.build import recorded_run, store_result, write_trends
     from blocwatch.pipeline.compute import BuildOptions
-    from blocwatch.pipeline.executors import Executor, make_executor
-    from blocwatch.pipeline.runs import finish_run, start_run, tool_version
+    from blocwatch.pipeline.runs import tool_version
 
     opts = options or BuildOptions()
     tasks = [(b, p, str(f)) for b, p, f in list_partitions(root)]
     if not tasks:
         raise UsageError(f"partition folder {root}", "holds no body=…/period=…/votes.parquet",
                          "write the partitions first (see blocwatch.pipeline.partitions)")
-    pool = executor if isinstance(executor, Executor) else make_executor(executor)
-    run_id = start_run(store, "build", {"partitions": str(root), **opts.params()})
-    report = BuildReport(run_id)
-    try:
+    with recorded_run(store, "build", {"partitions": str(root), **opts.params()},
+                      executor) as (report, pool):
         job = PartitionJob(opts, tool_version(), str(results))
         for folder, seconds in pool.map(job, tasks):
-            res = read_result(folder)
-            write_period(store, run_id, res)
-            report.periods.append((res.body, res.period_name))
-            report.seconds[(res.body, res.period_name)] = seconds
-            if progress:
-                progress(f"{res.body} {res.period_name}")
+            store_result(store, report, read_result(folder), seconds, progress)
         for body in sorted({b for b, _, _ in tasks}):
-            write_trends(store, run_id, body)
-    except BaseException:
-        finish_run(store, run_id, "failed", report.periods)
-        raise
-    finally:
-        if pool is not executor:
-            pool.close()
-    finish_run(store, run_id, "ok", report.periods)
+            write_trends(store, report.run_id, body)
     return report
