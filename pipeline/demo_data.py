@@ -102,12 +102,19 @@ def generate(out_dir: str | Path, *, seed: int = 7) -> DemoFiles:
     for m in members:
         close(m, date(LAST_YEAR, 12, 31))
     votes_path, roster_path = out / "votes.csv", out / "roster.csv"
-    with votes_path.open("w", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh)
-        w.writerow(["ballot_id", "date", "title", "member_id", "vote"])
-        w.writerows(vote_rows)
-    with roster_path.open("w", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh)
-        w.writerow(["member_id", "name", "group", "valid_from", "valid_to"])
-        w.writerows(sorted(roster_rows, key=lambda r: (r[0], r[3])))
+    write_csv(votes_path, ["ballot_id", "date", "title", "member_id", "vote"], vote_rows)
+    write_roster(roster_path, roster_rows)
     return DemoFiles(votes_path, roster_path)
+
+
+def write_csv(path: Path, header: list[str], rows: list[list]) -> None:
+    with path.open("w", newline="", encoding="utf-8") as fh:
+        w = csv.writer(fh)
+        w.writerow(header)
+        w.writerows(rows)
+
+
+def write_roster(path: Path, rows: list[list]) -> None:
+    """A roster file (member_id, name, group, valid_from, valid_to), by member and start."""
+    write_csv(path, ["member_id", "name", "group", "valid_from", "valid_to"],
+              sorted(rows, key=lambda r: (r[0], r[3])))

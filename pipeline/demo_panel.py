@@ -11,12 +11,13 @@ and then, and rotate off after a term. Everything is drawn from one seed.
 
 from __future__ import annotations
 
-import csv
 from dataclasses import dataclass
 from datetime import date, timedelta
 from pathlib import Path
 
 import numpy as np
+
+from blocwatch.pipeline.demo_data import write_csv, write_roster
 
 BODY = "Brackenmoor Trust Review Panel"
 SECTIONS = ("Field Studies", "Modelling", "Methods Desk")
@@ -100,12 +101,7 @@ def generate(out_dir: str | Path, *, seed: int = 11) -> PanelFiles:
         roster_rows.append([r["id"], r["name"], SECTIONS[r["section"]], r["since"],
                             date(LAST_YEAR, 12, 31)])
     votes_path, roster_path = out / "panel_scores.csv", out / "panel_roster.csv"
-    with votes_path.open("w", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh)
-        w.writerow(["ballot_id", "date", "title", "member_id", "score", "scale"])
-        w.writerows(score_rows)
-    with roster_path.open("w", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh)
-        w.writerow(["member_id", "name", "group", "valid_from", "valid_to"])
-        w.writerows(sorted(roster_rows, key=lambda row: (row[0], row[3])))
+    write_csv(votes_path, ["ballot_id", "date", "title", "member_id", "score", "scale"],
+              score_rows)
+    write_roster(roster_path, roster_rows)
     return PanelFiles(votes_path, roster_path)
