@@ -29,7 +29,7 @@ from pathlib import Path
 from typing import Any
 
 from blocwatch.pipeline.errors import UsageError
-from blocwatch.pipeline.store import DEFAULT_STORE
+from blocwatch.pipeline.store.database import DEFAULT_STORE
 
 CONFIG_NAME = "blocwatch.toml"
 CONFIG_ENV = "BLOCWATCH_CONFIG"

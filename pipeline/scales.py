@@ -22,8 +22,8 @@ rows of a scored ballot keep the clerk's text in ``raw``; ``choice`` holds the c
 ``score`` holds the option's index or the number.
 
 How distance follows from the kind, and how a body mixing kinds combines them, is in
-:mod:`blocwatch.pipeline.scored`; how a load resolves and checks scales, in
-:mod:`blocwatch.pipeline.scale_load`.
+:mod:`blocwatch.pipeline.build.scored`; how a load resolves and checks scales, in
+:mod:`blocwatch.pipeline.ingest.scale_answers`.
 """
 
 from __future__ import annotations
@@ -36,8 +36,8 @@ from dataclasses import dataclass
 
 import pandas as pd
 
-from blocwatch.pipeline.codes import choice_of, normalise
 from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.ingest.codes import choice_of, normalise
 from blocwatch.pipeline.safety import show
 
 KINDS = ("binary", "categorical", "ordinal", "continuous")

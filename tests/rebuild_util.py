@@ -13,8 +13,8 @@ from pathlib import Path
 
 import pandas as pd
 
-from blocwatch.pipeline.demo_data import BODY, FIRST_YEAR, generate
-from blocwatch.pipeline.store import Store
+from blocwatch.pipeline.demo.assembly import BODY, FIRST_YEAR, generate
+from blocwatch.pipeline.store.database import Store
 
 # Fast settings for tests; the benchmark passes its own.
 FAST = {"bootstrap": 0, "permutations": 0}
@@ -27,7 +27,7 @@ PROVENANCE = {"run_id", "loaded_at"}
 def exe() -> list[str]:
     found = shutil.which("blocwatch")
     return [found] if found else [sys.executable, "-c",
-                                  "from blocwatch.pipeline.cli import main; main()"]
+                                  "from blocwatch.pipeline.cli.main import main; main()"]
 
 
 @lru_cache(maxsize=1)
@@ -81,7 +81,7 @@ def cli_here(*args, project: Path):
     The project's config is passed with --config, so the working folder does not matter."""
     from click.testing import CliRunner
 
-    from blocwatch.pipeline.cli import cli as root
+    from blocwatch.pipeline.cli.main import cli as root
 
     result = CliRunner().invoke(root, ["--config", str(project / "blocwatch.toml"),
                                        *map(str, args)])

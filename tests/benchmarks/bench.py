@@ -90,7 +90,7 @@ def blas_info() -> str:
 # -- in-process stages --------------------------------------------------------------------
 
 def agreement_stages(n: int, b: int, repeats: int) -> dict:
-    from blocwatch.pipeline.agreement import agreement_counts, agreement_matrix
+    from blocwatch.pipeline.build.agreement import agreement_counts, agreement_matrix
 
     _, votes = synth.vote_matrix(n, b, seed=5)
     x = baselines.one_hot(votes)
@@ -122,10 +122,15 @@ def period_stages(size: synth.Size, bootstrap: int, permutations: int, repeats: 
     from threadpoolctl import threadpool_limits
 
     from blocwatch.metrics import registry
-    from blocwatch.pipeline.compute import BuildOptions, compute_period, filter_period, period_input
-    from blocwatch.pipeline.graphs import build_graph, parse_rule
-    from blocwatch.pipeline.matrices import VoteMatrix
-    from blocwatch.pipeline.periods import Period
+    from blocwatch.pipeline.build.compute import (
+        BuildOptions,
+        compute_period,
+        filter_period,
+        period_input,
+    )
+    from blocwatch.pipeline.build.graphs import build_graph, parse_rule
+    from blocwatch.pipeline.build.matrices import VoteMatrix
+    from blocwatch.pipeline.build.periods import Period
 
     # As in a build's worker: BLAS threads shared out between the workers.
     threadpool_limits(max(1, (os.cpu_count() or 1) // jobs))

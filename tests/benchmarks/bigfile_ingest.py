@@ -48,8 +48,8 @@ def generate(path: Path, rows: int, fmt: str) -> None:
 
 
 def load(path: Path, store: Path) -> dict:
-    from blocwatch.pipeline.ingest import ingest_files
-    from blocwatch.pipeline.store import Store
+    from blocwatch.pipeline.ingest.load import ingest_files
+    from blocwatch.pipeline.store.database import Store
 
     before = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
     usage = resource.getrusage(resource.RUSAGE_SELF)

@@ -41,9 +41,9 @@ ROOT = Path(__file__).resolve().parents[2]
 if __name__ == "__main__" and str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
-from blocwatch.pipeline.demo_data import BODY, FIRST_YEAR  # noqa: E402
-from blocwatch.pipeline.lock import lock_holder  # noqa: E402
-from blocwatch.pipeline.store import Store  # noqa: E402
+from blocwatch.pipeline.demo.assembly import BODY, FIRST_YEAR  # noqa: E402
+from blocwatch.pipeline.ops.lock import lock_holder  # noqa: E402
+from blocwatch.pipeline.store.database import Store  # noqa: E402
 from tests.rebuild_util import (  # noqa: E402
     assert_same,
     cli_here,

@@ -52,7 +52,7 @@ class PhasePeaks:
 
 
 def _ingest(store, votes: str | Path, roster: str | Path) -> float:
-    from blocwatch.pipeline.ingest import ingest_files
+    from blocwatch.pipeline.ingest.load import ingest_files
 
     t0 = time.perf_counter()
     ingest_files(store, [Path(votes)], body=BODY, members=Path(roster))
@@ -66,11 +66,11 @@ def _terms(path: Path, years: list[int]) -> str:
 
 
 def national(job: dict) -> dict:
-    from blocwatch.pipeline.build import body_periods, build
-    from blocwatch.pipeline.compute import BuildOptions
-    from blocwatch.pipeline.executors import ExecutorSpec, make_executor
-    from blocwatch.pipeline.matrices import load_votes
-    from blocwatch.pipeline.store import Store
+    from blocwatch.pipeline.build.builder import body_periods, build
+    from blocwatch.pipeline.build.compute import BuildOptions
+    from blocwatch.pipeline.build.executors import ExecutorSpec, make_executor
+    from blocwatch.pipeline.build.matrices import load_votes
+    from blocwatch.pipeline.store.database import Store
 
     work = Path(job["work"])
     size = synth.Size(job["periods"], job["members"], job["ballots"])
@@ -125,7 +125,7 @@ def national(job: dict) -> dict:
 
 def _report(store, out_dir: Path) -> float:
     from blocwatch.dashboards import ReportTables, write_report
-    from blocwatch.pipeline.reporting import report_frames
+    from blocwatch.pipeline.report.frames import report_frames
 
     t0 = time.perf_counter()
     frames = report_frames(store)
@@ -134,7 +134,7 @@ def _report(store, out_dir: Path) -> float:
 
 
 def run_child(job: dict) -> dict:
-    from blocwatch.pipeline.store import Store
+    from blocwatch.pipeline.store.database import Store
 
     if job["kind"] == "ingest":
         with Store(job["store"]) as store:

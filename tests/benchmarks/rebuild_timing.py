@@ -25,7 +25,7 @@ ROOT = Path(__file__).resolve().parents[2]
 if __name__ == "__main__" and str(ROOT) not in sys.path:  # only when run as a script
     sys.path.insert(0, str(ROOT))
 
-from blocwatch.pipeline.demo_data import FIRST_YEAR, LAST_YEAR  # noqa: E402
+from blocwatch.pipeline.demo.assembly import FIRST_YEAR, LAST_YEAR  # noqa: E402
 from tests.rebuild_util import cli_here, exe, make_project, write_year  # noqa: E402
 
 
@@ -71,7 +71,7 @@ def main(argv: list[str] | None = None) -> int:
 
 
 def _defaults() -> dict:
-    from blocwatch.pipeline.compute import DEFAULT_BOOTSTRAP, DEFAULT_PERMUTATIONS
+    from blocwatch.pipeline.build.compute import DEFAULT_BOOTSTRAP, DEFAULT_PERMUTATIONS
 
     return {"bootstrap": DEFAULT_BOOTSTRAP, "permutations": DEFAULT_PERMUTATIONS}
 

@@ -12,7 +12,7 @@ def _exe() -> list[str]:
     exe = shutil.which("blocwatch")
     if exe:
         return [exe]
-    return [sys.executable, "-c", "from blocwatch.pipeline.cli import main; main()"]
+    return [sys.executable, "-c", "from blocwatch.pipeline.cli.main import main; main()"]
 
 
 @pytest.fixture

@@ -12,9 +12,9 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-from blocwatch.pipeline.cli import cli
+from blocwatch.pipeline.cli.main import cli
 from blocwatch.pipeline.errors import EXIT_BAD_INPUT
-from blocwatch.pipeline.store import Store
+from blocwatch.pipeline.store.database import Store
 
 BAD = Path(__file__).resolve().parents[2] / "fixtures" / "bad"
 CASES = tomllib.loads((BAD / "cases.toml").read_text(encoding="utf-8"))["case"]

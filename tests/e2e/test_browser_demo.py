@@ -18,7 +18,7 @@ from tests.browser_util import Browser, chromium_path
 
 ARTIFACTS = Path(__file__).resolve().parents[1] / "artifacts"
 CLI = ([shutil.which("blocwatch")] if shutil.which("blocwatch")
-       else [sys.executable, "-c", "from blocwatch.pipeline.cli import main; main()"])
+       else [sys.executable, "-c", "from blocwatch.pipeline.cli.main import main; main()"])
 
 
 @pytest.fixture(scope="module")

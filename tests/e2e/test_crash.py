@@ -7,9 +7,9 @@ import sys
 
 import pytest
 
-from blocwatch.pipeline.demo_data import BODY, FIRST_YEAR
-from blocwatch.pipeline.lock import lock_holder
-from blocwatch.pipeline.store import Store
+from blocwatch.pipeline.demo.assembly import BODY, FIRST_YEAR
+from blocwatch.pipeline.ops.lock import lock_holder
+from blocwatch.pipeline.store.database import Store
 from tests.benchmarks.crash_harness import check_consistent, prepare, run_trials
 from tests.rebuild_util import assert_same, cli_here, contents, make_project
 
@@ -17,7 +17,7 @@ from tests.rebuild_util import assert_same, cli_here, contents, make_project
 # statement containing TRIGGER ran inside an open transaction (before its COMMIT).
 KILL_INSIDE = """
 import os, signal, sys
-from blocwatch.pipeline.store import Store
+from blocwatch.pipeline.store.database import Store
 trigger = sys.argv[1]
 original = Store.execute
 def execute(self, sql, params=None):
@@ -25,7 +25,7 @@ def execute(self, sql, params=None):
     if trigger in sql and self._depth:
         os.kill(os.getpid(), signal.SIGKILL)
 Store.execute = execute
-from blocwatch.pipeline.cli import main
+from blocwatch.pipeline.cli.main import main
 main(sys.argv[2:])
 """
 

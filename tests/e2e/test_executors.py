@@ -13,12 +13,12 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
-from blocwatch.pipeline.build import build
-from blocwatch.pipeline.compute import BuildOptions
-from blocwatch.pipeline.demo_data import BODY, generate
+from blocwatch.pipeline.build.builder import build
+from blocwatch.pipeline.build.compute import BuildOptions
+from blocwatch.pipeline.build.executors import ExecutorSpec, make_executor
+from blocwatch.pipeline.demo.assembly import BODY, generate
 from blocwatch.pipeline.errors import UsageError
-from blocwatch.pipeline.executors import ExecutorSpec, make_executor
-from blocwatch.pipeline.store import Store
+from blocwatch.pipeline.store.database import Store
 
 OPTS = BuildOptions(bootstrap=6, permutations=6, expensive_replicates=2)
 TABLES = ("periods", "period_metrics", "member_metrics", "group_agreement", "trends")
@@ -39,7 +39,7 @@ def demo_files(tmp_path_factory) -> tuple[Path, Path]:
 
 
 def _store(tmp_path: Path, files: tuple[Path, Path]) -> Store:
-    from blocwatch.pipeline.ingest import ingest_files
+    from blocwatch.pipeline.ingest.load import ingest_files
 
     store = Store(tmp_path / "s.duckdb")
     ingest_files(store, [files[0]], body=BODY, members=files[1])
@@ -116,7 +116,7 @@ def test_bad_executor_specs_are_usage_errors(kwargs, word):
 def _partition_build(tmp_path, files, executor) -> dict[str, pd.DataFrame]:
     """Vote partitions written from a loaded store, computed by workers into result
     partitions, merged into a second store that holds no ballots at all."""
-    from blocwatch.pipeline.partitions import build_partitions, write_vote_partitions
+    from blocwatch.pipeline.build.partitions import build_partitions, write_vote_partitions
 
     with _store(tmp_path, files) as source:
         written = write_vote_partitions(source, tmp_path / "lake")
@@ -141,7 +141,7 @@ def test_partitions_on_dask_match_store_build(serial, demo_files, tmp_path):
 
 
 def test_partition_folder_errors(tmp_path):
-    from blocwatch.pipeline.partitions import list_partitions, read_partition
+    from blocwatch.pipeline.build.partitions import list_partitions, read_partition
 
     with pytest.raises(UsageError, match="does not exist"):
         list_partitions(tmp_path / "nowhere")
@@ -159,8 +159,8 @@ def test_cli_build_flags(demo_files, tmp_path):
     """``build --jobs 2`` and ``build --partitions DIR`` through the command line."""
     from click.testing import CliRunner
 
-    from blocwatch.pipeline.cli import cli
-    from blocwatch.pipeline.partitions import write_vote_partitions
+    from blocwatch.pipeline.build.partitions import write_vote_partitions
+    from blocwatch.pipeline.cli.main import cli
 
     flags = ["--bootstrap", "2", "--permutations", "2", "--expensive-replicates", "1"]
     with _store(tmp_path, demo_files) as store:

@@ -14,8 +14,8 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-from blocwatch.pipeline.cli import cli
-from blocwatch.pipeline.store import Store
+from blocwatch.pipeline.cli.main import cli
+from blocwatch.pipeline.store.database import Store
 
 FIXTURES = Path(__file__).resolve().parents[2] / "fixtures" / "ingest"
 TOY = {  # METHODS §0 [D]: ballot -> votes of A1 A2 A3 B1 B2 B3

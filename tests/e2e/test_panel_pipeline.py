@@ -8,11 +8,11 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from blocwatch.pipeline import demo_panel
+from blocwatch.pipeline.build.matrices import load_votes
+from blocwatch.pipeline.build.periods import make_periods
+from blocwatch.pipeline.demo import panel as demo_panel
 from blocwatch.pipeline.errors import BadInputError
-from blocwatch.pipeline.matrices import load_votes
-from blocwatch.pipeline.periods import make_periods
-from blocwatch.pipeline.store import Store
+from blocwatch.pipeline.store.database import Store
 
 FAST = ("--bootstrap", 10, "--permutations", 10, "--expensive-replicates", 3)
 
@@ -23,7 +23,7 @@ def panel(tmp_path_factory):
 
 
 def _export_table(path, table: str = "metrics") -> pd.DataFrame:
-    from blocwatch.pipeline.results import export_frame
+    from blocwatch.pipeline.report.export import export_frame
 
     with Store(path, read_only=True) as store:
         return export_frame(store, table)
@@ -34,7 +34,7 @@ _metrics = _export_table
 
 def _ingest(path, *files, **options):
     """The library call the CLI makes (in-process: no interpreter start-up per test)."""
-    from blocwatch.pipeline.ingest import ingest_files
+    from blocwatch.pipeline.ingest.load import ingest_files
 
     with Store(path) as store:
         return ingest_files(store, [str(f) for f in files], **options)
@@ -80,8 +80,8 @@ def test_panel_demo_end_to_end(run_cli, tmp_path, panel):
 def test_stored_agreement_is_one_minus_scaled_distance(run_cli, tmp_path, panel):
     """Read back from the store, a pair's agreement is the mean over shared proposals of
     1 − |a − b| / 8 [D, per-pair definition], computed here from the file itself."""
-    from blocwatch.pipeline.agreement import AgreementOptions
-    from blocwatch.pipeline.scored import scored_agreement
+    from blocwatch.pipeline.build.agreement import AgreementOptions
+    from blocwatch.pipeline.build.scored import scored_agreement
 
     _ingest(tmp_path / "p.duckdb", panel.votes, members=panel.roster, body=panel.body)
     with Store(tmp_path / "p.duckdb", read_only=True) as store:

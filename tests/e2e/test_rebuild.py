@@ -10,10 +10,10 @@ import shutil
 
 import pytest
 
-from blocwatch.pipeline.demo_data import BODY, FIRST_YEAR
+from blocwatch.pipeline.demo.assembly import BODY, FIRST_YEAR
 from blocwatch.pipeline.errors import EXIT_LOCKED
-from blocwatch.pipeline.lock import store_lock
-from blocwatch.pipeline.store import Store
+from blocwatch.pipeline.ops.lock import store_lock
+from blocwatch.pipeline.store.database import Store
 from tests.rebuild_util import (
     assert_same,
     cli,

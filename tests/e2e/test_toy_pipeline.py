@@ -8,10 +8,10 @@ from fractions import Fraction
 import pandas as pd
 import pytest
 
-from blocwatch.pipeline.agreement import agreement_counts, agreement_matrix
-from blocwatch.pipeline.matrices import load_votes
-from blocwatch.pipeline.periods import make_periods
-from blocwatch.pipeline.store import Store
+from blocwatch.pipeline.build.agreement import agreement_counts, agreement_matrix
+from blocwatch.pipeline.build.matrices import load_votes
+from blocwatch.pipeline.build.periods import make_periods
+from blocwatch.pipeline.store.database import Store
 
 TABLE = {  # METHODS §0: ballot -> votes of A1 A2 A3 B1 B2 B3
     "v1": "YYYNNN", "v2": "YYNNNN", "v3": "YYYYYY", "v4": "NNNYYN"}

@@ -5,7 +5,7 @@ from pathlib import Path
 
 import click
 
-from blocwatch.pipeline.cli import cli
+from blocwatch.pipeline.cli.main import cli
 
 ROOT = Path(__file__).resolve().parents[2]
 README = (ROOT / "README.md").read_text(encoding="utf-8")

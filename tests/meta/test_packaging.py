@@ -26,6 +26,6 @@ def test_bare_folder_names_are_not_importable():
 
 
 def test_version_comes_from_metadata():
-    from blocwatch.pipeline.runs import tool_version
+    from blocwatch.pipeline.store.runs import tool_version
 
     assert tool_version() == version("blocwatch")

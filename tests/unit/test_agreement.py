@@ -5,7 +5,7 @@ from fractions import Fraction
 import numpy as np
 import pytest
 
-from blocwatch.pipeline.agreement import (
+from blocwatch.pipeline.build.agreement import (
     AgreementOptions,
     agreement_counts,
     agreement_matrix,

@@ -7,7 +7,7 @@ columns: a bootstrap weight w is the ballot drawn w times, METHODS §6), never f
 import numpy as np
 import pytest
 
-from blocwatch.pipeline.agreement import ROOT_WEIGHT_LIMIT, agreement_counts
+from blocwatch.pipeline.build.agreement import ROOT_WEIGHT_LIMIT, agreement_counts
 
 YES, NO, ABSTAIN = 1, 2, 3
 

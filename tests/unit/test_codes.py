@@ -4,7 +4,8 @@ import math
 
 import pytest
 
-from blocwatch.pipeline.codes import (
+from blocwatch.pipeline.errors import BadInputError, UsageError
+from blocwatch.pipeline.ingest.codes import (
     BUILTIN,
     CHOICES,
     choice_of,
@@ -13,7 +14,6 @@ from blocwatch.pipeline.codes import (
     normalise,
     resolve,
 )
-from blocwatch.pipeline.errors import BadInputError, UsageError
 
 # [S: issue 2, "Ingest": the spellings the built-in table must know]
 ISSUE_SPELLINGS = {

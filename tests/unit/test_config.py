@@ -8,9 +8,9 @@ import click
 import pytest
 from click.testing import CliRunner
 
-from blocwatch.pipeline.cli import cli
+from blocwatch.pipeline.cli.flags import default_map, flag_key, flag_sections
+from blocwatch.pipeline.cli.main import cli
 from blocwatch.pipeline.config import activate, body_sources
-from blocwatch.pipeline.configflags import default_map, flag_key, flag_sections
 from blocwatch.pipeline.errors import UsageError
 
 
@@ -157,7 +157,7 @@ def test_demo_ignores_the_project_config(tmp_path):
     """The demo makes its own project: a broken blocwatch.toml around it does not matter."""
     write(tmp_path, "[build\n")
     ctx = cli.make_context("blocwatch", ["demo", "--help"], resilient_parsing=True)
-    from blocwatch.pipeline.configflags import apply_config
+    from blocwatch.pipeline.cli.flags import apply_config
 
     ctx.invoked_subcommand = "demo"
     cfg = apply_config(ctx, str(tmp_path / "blocwatch.toml"))

@@ -14,10 +14,10 @@ import pandas as pd
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from blocwatch.pipeline.codes import BUILTIN, CHOICES, choice_of, normalise, resolve
 from blocwatch.pipeline.errors import BlocwatchError
-from blocwatch.pipeline.ingest import ingest_files
-from blocwatch.pipeline.store import Store
+from blocwatch.pipeline.ingest.codes import BUILTIN, CHOICES, choice_of, normalise, resolve
+from blocwatch.pipeline.ingest.load import ingest_files
+from blocwatch.pipeline.store.database import Store
 
 FUZZ = settings(max_examples=25, deadline=None,
                 suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])

@@ -3,14 +3,14 @@
 import numpy as np
 import pytest
 
-from blocwatch.pipeline.errors import UsageError
-from blocwatch.pipeline.graphs import (
+from blocwatch.pipeline.build.graphs import (
     Rule,
     build_graph,
     equal_likelihood_threshold,
     parse_rule,
     to_networkx,
 )
+from blocwatch.pipeline.errors import UsageError
 
 
 def _planted(n_per=40, seed=0):

@@ -11,11 +11,11 @@ import time
 import pytest
 
 from blocwatch.pipeline.errors import EXIT_LOCKED, LockHeldError
-from blocwatch.pipeline.lock import lock_holder, lock_path, store_lock
+from blocwatch.pipeline.ops.lock import lock_holder, lock_path, store_lock
 
 HOLD = """
 import sys, time
-from blocwatch.pipeline.lock import store_lock
+from blocwatch.pipeline.ops.lock import store_lock
 with store_lock(sys.argv[1], "holder-test"):
     print("held", flush=True)
     time.sleep(60)

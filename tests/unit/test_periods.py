@@ -4,8 +4,8 @@ from datetime import date
 
 import pytest
 
+from blocwatch.pipeline.build.periods import make_periods, read_terms
 from blocwatch.pipeline.errors import BadInputError, UsageError
-from blocwatch.pipeline.periods import make_periods, read_terms
 
 
 def test_calendar_years():

@@ -4,16 +4,16 @@ from pathlib import Path
 
 import pytest
 
-from blocwatch.pipeline import sniff
 from blocwatch.pipeline.errors import UsageError
-from blocwatch.pipeline.readers import (
+from blocwatch.pipeline.ingest import sniff
+from blocwatch.pipeline.ingest.readers import (
     parse_column_options,
     parse_columns,
     resolve_columns,
     stage_file,
 )
-from blocwatch.pipeline.store import Store
-from blocwatch.pipeline.validate import Problems
+from blocwatch.pipeline.ingest.validate import Problems
+from blocwatch.pipeline.store.database import Store
 
 FIXTURES = Path(__file__).resolve().parents[2] / "fixtures" / "ingest"
 

@@ -5,9 +5,9 @@ from datetime import date
 import pandas as pd
 import pytest
 
-from blocwatch.pipeline import roster
-from blocwatch.pipeline.store import Store
-from blocwatch.pipeline.validate import Problems
+from blocwatch.pipeline.ingest import roster
+from blocwatch.pipeline.ingest.validate import Problems
+from blocwatch.pipeline.store.database import Store
 
 D = date.fromisoformat
 

@@ -11,7 +11,7 @@ from pathlib import Path
 import pytest
 
 from blocwatch.pipeline.errors import UsageError
-from blocwatch.pipeline.schedule import (
+from blocwatch.pipeline.ops.schedule import (
     WHEN,
     blocwatch_executable,
     cron_line,
@@ -156,7 +156,7 @@ def _cli(*args, cwd):
     """The real command line, in process (click's runner) to keep the suite fast."""
     from click.testing import CliRunner
 
-    from blocwatch.pipeline.cli import cli
+    from blocwatch.pipeline.cli.main import cli
 
     old = os.getcwd()
     os.chdir(cwd)

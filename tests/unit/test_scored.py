@@ -1,4 +1,4 @@
-"""Periods with scored ballots (pipeline/scored.py): the combination rule, kappa, filters."""
+"""Periods with scored ballots (pipeline/build/scored.py): the combination rule, kappa, filters."""
 
 import warnings
 from datetime import date
@@ -8,10 +8,10 @@ import pytest
 from sklearn.metrics import cohen_kappa_score
 
 from blocwatch.metrics.registry import ABSTAIN, MISSING, NO, YES
-from blocwatch.pipeline.agreement import AgreementOptions, agreement_counts, agreement_matrix
-from blocwatch.pipeline.matrices import VoteMatrix
-from blocwatch.pipeline.periods import Period
-from blocwatch.pipeline.scored import (
+from blocwatch.pipeline.build.agreement import AgreementOptions, agreement_counts, agreement_matrix
+from blocwatch.pipeline.build.matrices import VoteMatrix
+from blocwatch.pipeline.build.periods import Period
+from blocwatch.pipeline.build.scored import (
     ScaleMatrix,
     filter_scored,
     scored_agreement,
@@ -182,7 +182,7 @@ def test_digest_follows_scores():
 def test_yes_no_period_input_keeps_the_yes_no_path():
     """compute.period_input without scales and with --agreement match is the yes/no path:
     the float32 products, no scores (so the reliability family is left out)."""
-    from blocwatch.pipeline.compute import BuildOptions, period_input
+    from blocwatch.pipeline.build.compute import BuildOptions, period_input
 
     opts = BuildOptions(agreement=AgreementOptions(min_shared=1))
     inp = period_input(TOY, np.array([0, 0, 0, 1, 1, 1]), opts, 1)

@@ -3,14 +3,14 @@
 import pytest
 
 from blocwatch.pipeline.errors import BadInputError
-from blocwatch.pipeline.store import Store
-from blocwatch.pipeline.validate import (
+from blocwatch.pipeline.ingest.validate import (
     MAX_FIELD_CHARS,
     Problem,
     Problems,
     check_dates,
     check_values,
 )
+from blocwatch.pipeline.store.database import Store
 
 
 class Staged:

@@ -1,0 +1,109 @@
+"""Vote matrices: one body × period read from the store as a member × ballot int8 array.
+
+A member's group in a period is the group in force on the dates of most of the ballots the
+member cast in it (ties go to the alphabetically first group); members with no group on those
+dates are left out and counted in ``dropped``.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from blocwatch.metrics.registry import ABSTAIN, MISSING, NO, YES
+from blocwatch.pipeline.build.periods import Period
+from blocwatch.pipeline.build.scored import attach_scales
+from blocwatch.pipeline.store.database import Store
+
+CHOICE_CODES = {"yes": YES, "no": NO, "abstain": ABSTAIN, "absent": MISSING}
+
+
+@dataclass(frozen=True)
+class VoteMatrix:
+    body: str
+    period: Period
+    member_ids: np.ndarray  # (n,) str
+    names: np.ndarray  # (n,) str
+    groups: np.ndarray  # (n,) str, group of each member in this period
+    ballot_ids: np.ndarray  # (b,) str
+    items: np.ndarray  # (b,) str agenda item or '' (for the block bootstrap)
+    votes: np.ndarray  # (n, b) int8 codes
+    dropped: int = 0  # members left out: no group, or (after filtering) too few votes
+    # Scales and scored answers (blocwatch.pipeline.build.scored.ScaleMatrix); None when every
+    # ballot of the period is yes/no.
+    scales: object = None
+
+    @property
+    def labels(self) -> np.ndarray:
+        """Groups as 0..k−1 in alphabetical order of group name."""
+        return np.unique(self.groups, return_inverse=True)[1].astype(np.int64)
+
+    @property
+    def group_names(self) -> list[str]:
+        return [str(g) for g in np.unique(self.groups)]
+
+    def subset(self, members: np.ndarray | None = None, ballots: np.ndarray | None = None,
+               *, dropped: int = 0) -> VoteMatrix:
+        m = slice(None) if members is None else members
+        b = slice(None) if ballots is None else ballots
+        scales = None if self.scales is None else self.scales.subset(m, b)
+        return VoteMatrix(self.body, self.period, self.member_ids[m], self.names[m],
+                          self.groups[m], self.ballot_ids[b], self.items[b],
+                          self.votes[m][:, b], self.dropped + dropped, scales)
+
+
+def ballot_date_range(store: Store, body: str) -> tuple | None:
+    """(first, last) ballot date of a body, or None if it has none."""
+    row = store.rows("SELECT min(held_on), max(held_on) FROM ballots WHERE body = ?", [body])
+    return None if not row or row[0][0] is None else (row[0][0], row[0][1])
+
+
+def load_votes(store: Store, body: str, period: Period) -> VoteMatrix:
+    """The period's vote matrix, every member with a group and at least one row in it."""
+    params = [body, period.start, period.end]
+    votes = store.df(
+        """SELECT v.member_id, v.ballot_id, v.choice, coalesce(b.item, '') AS item, b.held_on
+           FROM votes v JOIN ballots b ON b.body = v.body AND b.ballot_id = v.ballot_id
+           WHERE v.body = ? AND b.held_on BETWEEN ? AND ?
+           ORDER BY b.held_on, v.ballot_id""", params)
+    groups = store.df(
+        """WITH cast_votes AS (
+               SELECT v.member_id, b.held_on FROM votes v
+               JOIN ballots b ON b.body = v.body AND b.ballot_id = v.ballot_id
+               WHERE v.body = ? AND b.held_on BETWEEN ? AND ? AND v.choice <> 'absent'),
+           counted AS (
+               SELECT c.member_id, m.group_name, count(*) AS n FROM cast_votes c
+               JOIN memberships m ON m.body = ? AND m.member_id = c.member_id
+                    AND c.held_on BETWEEN m.valid_from AND m.valid_to
+               GROUP BY ALL)
+           SELECT * FROM counted""", params + [body])
+    names = store.df("SELECT member_id, coalesce(name, member_id) AS name FROM members "
+                     "WHERE body = ?", [body])
+    return attach_scales(store, _assemble(body, period, votes, groups, names))
+
+
+def _assemble(body: str, period: Period, votes: pd.DataFrame, groups: pd.DataFrame,
+              names: pd.DataFrame) -> VoteMatrix:
+    groups = (groups.sort_values(["member_id", "n", "group_name"], ascending=[True, False, True])
+              .drop_duplicates("member_id"))
+    all_members = votes["member_id"].unique()
+    with_group = groups.set_index("member_id")["group_name"]
+    keep = np.array([m in with_group.index for m in all_members], dtype=bool) \
+        if len(all_members) else np.zeros(0, dtype=bool)
+    members = np.sort(all_members[keep]).astype(object)
+    dropped = int((~keep).sum())
+    votes = votes[votes["member_id"].isin(set(members))]
+    ballot_order = votes.drop_duplicates("ballot_id")[["ballot_id", "item"]]
+    ballots = ballot_order["ballot_id"].to_numpy(dtype=object)
+    m_index = pd.Index(members).get_indexer(votes["member_id"])
+    b_index = pd.Index(ballots).get_indexer(votes["ballot_id"])
+    matrix = np.zeros((len(members), len(ballots)), dtype=np.int8)
+    codes = votes["choice"].map(CHOICE_CODES).fillna(MISSING).to_numpy(dtype=np.int8)
+    matrix[m_index, b_index] = codes
+    name_map = names.set_index("member_id")["name"]
+    member_names = np.array([str(name_map.get(m, m)) for m in members], dtype=object)
+    return VoteMatrix(body, period, members, member_names,
+                      with_group.reindex(members).to_numpy(dtype=object), ballots,
+                      ballot_order["item"].to_numpy(dtype=object), matrix, dropped)

@@ -1,0 +1,1 @@
+"""The ``blocwatch`` command line."""

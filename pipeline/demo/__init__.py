@@ -1,0 +1,1 @@
+"""The demo: invented bodies for a first run."""

@@ -1,0 +1,1 @@
+"""Ingest: read ballot files, check everything, write one load all or nothing."""

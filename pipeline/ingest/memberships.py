@@ -1,0 +1,135 @@
+"""Group memberships of a load: roster spells, spells from a group column, and their checks.
+
+Called by :mod:`blocwatch.pipeline.ingest.load` with the load in progress (``load``: its store,
+problems, staged files and options). Groups come from the roster when there is one (a group
+column must then agree with it), else from a group column, else from the memberships already
+stored. Once a body has groups, every member in the votes needs one, and every cast vote must
+fall inside one of the member's spells.
+"""
+
+from __future__ import annotations
+
+import pandas as pd
+
+from blocwatch.pipeline.ingest import roster
+from blocwatch.pipeline.ingest.readers import Staged
+from blocwatch.pipeline.ingest.validate import EXAMPLES, add_row_problem
+from blocwatch.pipeline.safety import show
+
+_K = 1 << 40  # packs (file k, row) into one sortable BIGINT
+
+
+def check(load, votes: dict[int, Staged], combined: str | None, bal: str):
+    """The spells to write, and the (body, member) pairs whose stored spells they replace."""
+    store, problems = load.store, load.problems
+    rosters = load.of("roster")
+    bodies = sorted({b for k in load.staged for b in load.results[k].bodies})
+    stored = roster.stored_spells(store, bodies)
+    new_roster = pd.concat([roster.roster_spells(store, s, problems, load.bad_members)
+                            .assign(k=k) for k, s in rosters.items()]) if rosters else None
+    grouped = {k: s for k, s in votes.items() if "group_name" in s.headers}
+    obs = _observations(load, grouped, bal) if grouped else None
+    if new_roster is not None:
+        if obs:
+            _roster_agrees(load, obs, new_roster, grouped)
+        merged = roster.merge(stored, new_roster, replace="all" if load.replace else None,
+                              staged_by_k=load.staged, problems=problems)
+        affected = new_roster[["body", "member_id"]].drop_duplicates()
+    elif obs:
+        derived = roster.derived_spells(store, obs)
+        merged = roster.merge(stored, derived, replace="clip" if load.replace else None,
+                              staged_by_k=load.staged, problems=problems)
+        affected = derived[["body", "member_id"]].drop_duplicates()
+    else:
+        merged = pd.DataFrame(columns=roster.SPELL_COLUMNS)
+        affected = pd.DataFrame(columns=["body", "member_id"])
+    # Spells derived from a group column cover every vote that gave a group, by construction.
+    covered = not rosters and len(grouped) == len(votes) and not any(
+        s.nulls.get("group_name") for s in grouped.values())
+    if combined:
+        _coverage(load, stored, merged, affected, combined, bal, derived_only=covered)
+    return merged, affected
+
+def _observations(load, grouped: dict[int, Staged], bal: str) -> str | None:
+    parts = [f"""SELECT t.body, t.member_id, b.held_on, t.group_name, min(t.rid) AS rid,
+                        CAST({k} AS INTEGER) AS k FROM {s.table} t JOIN {bal} b
+                 ON b.body = t.body AND b.ballot_id = t.ballot_id
+                 WHERE t.group_name IS NOT NULL AND t.member_id IS NOT NULL
+                       AND b.held_on IS NOT NULL GROUP BY ALL""" for k, s in grouped.items()]
+    load.store.stage("_bw_obs_all", " UNION ALL ".join(parts))
+    for member, day, groups, ks, rids in load.store.rows(f"""
+            WITH bad AS (SELECT body, member_id, held_on FROM _bw_obs_all
+                         GROUP BY body, member_id, held_on
+                         HAVING min(group_name) <> max(group_name) LIMIT {EXAMPLES})
+            SELECT o.member_id, o.held_on, list(o.group_name ORDER BY o.rid),
+                   list(o.k ORDER BY o.rid), list(o.rid ORDER BY o.rid)
+            FROM _bw_obs_all o JOIN bad USING (body, member_id, held_on)
+            GROUP BY o.body, o.member_id, o.held_on ORDER BY min(o.rid)"""):
+        i = next(i for i, g in enumerate(groups) if g != groups[0])
+        add_row_problem(load.problems, load.staged[ks[i]], "member", rids[i], "group_name",
+                        groups[i], f"member {show(member)} is in group {show(groups[i])} "
+                        f"here but in {show(groups[0])} elsewhere on the same date {day}",
+                        "give a member one group per date")
+    load.store.stage("_bw_obs", """SELECT body, member_id, held_on, min(group_name) AS
+                     group_name, min(rid) AS rid, min(k) AS k FROM _bw_obs_all
+                     GROUP BY body, member_id, held_on""")
+    return "_bw_obs"
+
+def _roster_agrees(load, obs: str, spells: pd.DataFrame, grouped: dict[int, Staged]) -> None:
+    load.store.stage_frame("_bw_roster_spells", spells[roster.SPELL_COLUMNS])
+    for k, rid, member, day, got, want in load.store.rows(f"""
+            SELECT o.k, o.rid, o.member_id, o.held_on, o.group_name, s.group_name
+            FROM {obs} o JOIN _bw_roster_spells s ON s.body = o.body
+            AND s.member_id = o.member_id AND o.held_on BETWEEN CAST(s.valid_from AS DATE)
+            AND CAST(s.valid_to AS DATE) WHERE s.group_name <> o.group_name
+            ORDER BY o.k, o.rid LIMIT {EXAMPLES}"""):
+        add_row_problem(load.problems, grouped[k], "member", rid, "group_name", got,
+                        f"member {show(member)} is in group {show(got)} on {day} here, but "
+                        f"in {show(want)} in the roster", "make the votes file and the "
+                        "roster agree, or leave the group column out")
+
+def _coverage(load, stored, merged, affected, combined: str, bal: str, *,
+              derived_only: bool) -> None:
+    """Members without any group, and cast votes outside every spell (when groups exist)."""
+    keep = stored.merge(affected, on=["body", "member_id"], how="left", indicator=True)
+    keep = keep[keep["_merge"] == "left_only"].drop(columns="_merge")
+    final = pd.concat([keep, merged], ignore_index=True)
+    if final.empty:
+        load.notes.append("note: no groups are known for this body yet — load a roster "
+                          "with --members (or a group column) before 'blocwatch build'")
+        return
+    if derived_only:
+        return
+    frame = final[roster.SPELL_COLUMNS].copy()
+    frame["valid_from"] = pd.to_datetime(frame["valid_from"].astype(str))
+    frame["valid_to"] = pd.to_datetime(frame["valid_to"].astype(str), errors="coerce") \
+        .fillna(pd.Timestamp("2262-04-11"))
+    load.store.stage_frame("_bw_spells", frame)
+    missing = load.store.rows(f"""
+        SELECT n.k, min(n.rid), n.member_id, count(*) FROM {combined} n
+        WHERE n.body IN (SELECT DISTINCT body FROM _bw_spells) AND NOT EXISTS (SELECT 1 FROM
+          _bw_spells s WHERE s.body = n.body AND s.member_id = n.member_id)
+          AND NOT list_contains(?, n.member_id)
+        GROUP BY n.k, n.member_id ORDER BY n.k, min(n.rid)""", [sorted(load.bad_members)])
+    for k, rid, member, n in missing[:EXAMPLES * 4]:
+        add_row_problem(load.problems, load.staged[k], "member", rid, "member_id", member,
+                        f"member {show(member)} is not in the roster (no group known)",
+                        "add the member to the roster file (--members), or give the votes "
+                        "file a group column", count=n)
+    # One row per member and date first (members x dates, not votes), then the spell test.
+    uncovered = load.store.rows(f"""
+        WITH d AS (SELECT n.body, n.member_id, b.held_on,
+                          min(n.k * {_K} + n.rid) AS key FROM {combined} n JOIN {bal} b
+                   ON b.body = n.body AND b.ballot_id = n.ballot_id
+                   WHERE n.choice <> 'absent' AND b.held_on IS NOT NULL
+                   GROUP BY n.body, n.member_id, b.held_on)
+        SELECT key // {_K}, key % {_K}, member_id, held_on FROM d
+        WHERE NOT list_contains(?, member_id) AND EXISTS (SELECT 1 FROM _bw_spells s
+          WHERE s.body = d.body AND s.member_id = d.member_id) AND NOT EXISTS (SELECT 1
+          FROM _bw_spells s WHERE s.body = d.body AND s.member_id = d.member_id AND
+          d.held_on BETWEEN CAST(s.valid_from AS DATE) AND CAST(s.valid_to AS DATE))
+        ORDER BY key LIMIT {EXAMPLES}""", [sorted(load.bad_members)])
+    for k, rid, member, day in uncovered:
+        add_row_problem(load.problems, load.staged[k], "member", rid, "member_id", member,
+                        f"member {show(member)} votes on {day} but has no group on that "
+                        "date", "extend the member's valid_from/valid_to in the roster")

@@ -1,0 +1,1 @@
+"""Operations: rebuilds, status, schedules, the store lock."""

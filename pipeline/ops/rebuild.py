@@ -1,0 +1,273 @@
+"""``blocwatch rebuild``: load what is new, recompute what changed, redraw the outputs.
+
+A rebuild, under the store's lock (:mod:`blocwatch.pipeline.ops.lock`):
+
+1. hashes every file the config's ``sources`` globs match (sha256) and loads the ones whose
+   content the store has not seen for that body — a file seen before under the same path with
+   other content is *changed* and replaces its votes;
+2. works out the stale body × period pairs: a period whose fingerprint (its votes, the groups
+   in force, the parameters, the tool version) differs from the stored one, a period not built
+   yet, a stored period the period spec no longer produces, and a body whose trends are older
+   than its periods (a run killed between its last period and its trends);
+3. if anything is stale, runs :func:`~blocwatch.pipeline.build.builder.build` with ``only_changed``
+   (every period is swapped in within one transaction);
+4. if the output folder does not show the store's newest results, writes the outputs into a
+   staging folder beside it and swaps that in (a marker file in the folder records the run
+   whose results it shows).
+
+With nothing new it writes nothing at all — no run row either — and says so. ``full`` forces
+every period to be recomputed and the outputs rewritten. Every step is safe to kill: a load is
+one transaction, a period is one transaction, the output folder is swapped whole, and whatever
+a killed run left undone is stale for the next one.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import os
+import shutil
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from blocwatch.pipeline.build.builder import BuildReport, body_periods, build
+from blocwatch.pipeline.build.compute import BuildOptions, fingerprint
+from blocwatch.pipeline.build.matrices import load_votes
+from blocwatch.pipeline.config import Config, active_config, body_ingest_options, body_sources
+from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.ops.lock import store_lock
+from blocwatch.pipeline.store.database import Store
+from blocwatch.pipeline.store.runs import tool_version
+
+_CHUNK = 1 << 20
+MARKER = ".blocwatch-outputs.json"  # in the output folder: the run whose results it shows
+
+
+def file_sha256(path: str | Path) -> str:
+    h = hashlib.sha256()
+    with open(path, "rb") as fh:
+        while chunk := fh.read(_CHUNK):
+            h.update(chunk)
+    return h.hexdigest()
+
+
+@dataclass(frozen=True)
+class SourceFile:
+    body: str
+    path: Path
+    sha256: str
+    state: str  # "new", "changed" (same path, other content) or "loaded"
+    kind: str = "votes"  # or "members" (roster) or "ballots"
+
+
+@dataclass(frozen=True)
+class Stale:
+    body: str
+    period: str | None  # None: the body's trends
+    reason: str  # "new", "changed", "removed", "trends"
+
+
+@dataclass
+class RebuildReport:
+    sources: list[SourceFile] = field(default_factory=list)
+    ingested: list[SourceFile] = field(default_factory=list)
+    stale: list[Stale] = field(default_factory=list)
+    build: BuildReport | None = None
+    outputs: list[Path] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)
+
+    @property
+    def nothing_to_do(self) -> bool:
+        return self.build is None and not self.ingested and not self.outputs
+
+    def summary(self) -> str:
+        files = f"{len(self.sources)} source file(s), {len(self.ingested)} loaded"
+        if self.nothing_to_do:
+            return f"nothing to do: {files}; every period and the outputs are up to date"
+        if self.build is None:
+            return f"{files}; no period changed, nothing recomputed" + (
+                "; outputs rewritten from the stored results" if self.outputs else "")
+        return (f"run {self.build.run_id}: {files}; {len(self.build.periods)} period(s) "
+                f"recomputed, {len(self.build.skipped)} unchanged")
+
+
+def _config_bodies(cfg: Config, body: str | None) -> list[str]:
+    names = list(cfg.bodies)
+    if body is None:
+        return names
+    return [body] if body in names else []
+
+
+def scan_sources(store: Store | None, cfg: Config, body: str | None = None) -> list[SourceFile]:
+    """Every file the configured globs match, with its state against the store's load log."""
+    out = []
+    for name in _config_bodies(cfg, body):
+        loaded: dict[str, set[str]] = {}
+        if store is not None:
+            for sha, file in store.rows("SELECT sha256, file FROM ingests WHERE body = ?",
+                                        [name]):
+                loaded.setdefault(sha, set()).add(file)
+        seen_paths = {f for files in loaded.values() for f in files}
+        files = [(p, "votes") for p in body_sources(name, cfg)]
+        aux = body_ingest_options(name, cfg)
+        files += [(Path(aux[k]).resolve(), k) for k in ("members", "ballots") if k in aux]
+        for path, kind in files:
+            if not path.is_file():
+                raise UsageError(f"config: bodies.{name}.{kind}", f"names {path}, which does "
+                                 "not exist", "fix the path (relative to blocwatch.toml)")
+            sha = file_sha256(path)
+            if sha in loaded:
+                state = "loaded"
+            elif _seen(path, cfg, seen_paths):
+                state = "changed"
+            else:
+                state = "new"
+            out.append(SourceFile(name, path, sha, state, kind))
+    return out
+
+
+def _seen(path: Path, cfg: Config, seen_paths: set[str]) -> bool:
+    """Was a file at this place loaded before? Matched by its path relative to the project
+    folder, so a project moved or copied elsewhere still knows its files."""
+    if str(path) in seen_paths:
+        return True
+    try:
+        tail = "/" + path.relative_to(cfg.base.resolve()).as_posix()
+    except ValueError:
+        return False
+    return any(p.replace("\\", "/").endswith(tail) for p in seen_paths)
+
+
+def _trends_stale(store: Store, body: str) -> bool:
+    """Trends are written after a run's last period, so they must be as new as every period."""
+    row = store.rows(
+        """SELECT (SELECT max(run_id) FROM periods WHERE body = ?),
+                  (SELECT min(run_id) FROM trends WHERE body = ?)""", [body, body])[0]
+    newest_period, oldest_trend = row
+    return newest_period is not None and (oldest_trend is None or oldest_trend < newest_period)
+
+
+def stale_periods(store: Store, options: BuildOptions, body: str | None = None) -> list[Stale]:
+    """The body × period pairs a rebuild would recompute (or remove), without writing."""
+    version = tool_version()
+    known = [r[0] for r in store.rows("SELECT body FROM bodies ORDER BY body")]
+    targets = [b for b in known if body is None or b == body]
+    out = []
+    for b in targets:
+        stored = dict(store.rows("SELECT period, fingerprint FROM periods WHERE body = ?", [b]))
+        periods = body_periods(store, b, options.period)
+        for period in periods:
+            vm = load_votes(store, b, period)
+            if vm.votes.size == 0:
+                continue
+            if period.name not in stored:
+                out.append(Stale(b, period.name, "new"))
+            elif stored[period.name] != fingerprint(vm, options, version):
+                out.append(Stale(b, period.name, "changed"))
+        names = {p.name for p in periods}
+        out += [Stale(b, p, "removed") for p in sorted(stored) if p not in names]
+        if not any(s.body == b for s in out) and _trends_stale(store, b):
+            out.append(Stale(b, None, "trends"))
+    return out
+
+
+def _ingest(store: Store, cfg: Config, pending: list[SourceFile]) -> list[SourceFile]:
+    """Load each body's pending files: changed ones first (they replace what they said before),
+    then new ones (a conflict with stored votes is an error unless the body sets replace).
+    The roster and ballots files go with every call; a call skips them once loaded."""
+    from blocwatch.pipeline.ingest.load import ingest_files
+
+    done = []
+    for name in dict.fromkeys(s.body for s in pending):
+        opts = body_ingest_options(name, cfg)
+        replace_new = bool(cfg.bodies.get(name, {}).get("replace", False))
+        for state, replace in (("changed", True), ("new", replace_new)):
+            group = [s for s in pending if s.body == name and s.state == state]
+            if group:
+                ingest_files(store, [s.path for s in group if s.kind == "votes"], body=name,
+                             replace=replace, **opts)
+                done += group
+    return done
+
+
+def results_run(store: Store) -> int | None:
+    """The newest run whose results the store holds (periods and trends)."""
+    return store.scalar("SELECT max(run_id) FROM (SELECT run_id FROM periods "
+                        "UNION ALL SELECT run_id FROM trends)")
+
+
+def outputs_current(out: str | Path, run_id: int | None) -> bool:
+    """Whether the folder ``out`` was written from the results of run ``run_id``."""
+    try:
+        return json.loads((Path(out) / MARKER).read_text(encoding="utf-8"))["run"] == run_id
+    except (OSError, ValueError, KeyError, TypeError):
+        return False
+
+
+def swap_outputs(out: str | Path, write: Callable[[Path], list[Path]],
+                 run_id: int | None) -> list[Path]:
+    """Write the outputs into a staging folder beside ``out``, then swap it in.
+
+    A run killed while writing leaves ``out`` as it was (or, killed between the two renames,
+    missing), never half old and half new; leftovers of killed runs are removed first.
+    """
+    out = Path(out)
+    out.parent.mkdir(parents=True, exist_ok=True)
+    for leftover in out.parent.glob(f".{out.name}.*-*"):
+        shutil.rmtree(leftover, ignore_errors=True)
+    staging = out.parent / f".{out.name}.staging-{os.getpid()}"
+    old = out.parent / f".{out.name}.old-{os.getpid()}"
+    paths = write(staging)
+    (staging / MARKER).write_text(json.dumps({"run": run_id}) + "\n", encoding="utf-8")
+    if out.exists():
+        out.rename(old)
+    staging.rename(out)
+    shutil.rmtree(old, ignore_errors=True)
+    return [out / Path(p).relative_to(staging) for p in paths]
+
+
+def rebuild(store_path: str | Path, *, options: BuildOptions | None = None,
+            config: Config | None = None, body: str | None = None, full: bool = False,
+            out: str | Path | None = None,
+            write_outputs: Callable[[Path], list[Path]] | None = None,
+            progress: Callable[[str], None] | None = None) -> RebuildReport:
+    """Bring the store (and the outputs in ``out``) up to date; see the module docstring.
+
+    ``write_outputs(folder)`` writes the outputs into ``folder`` and returns their paths; it
+    is called after the store is closed (still under the lock) when ``out`` does not show the
+    store's newest results, or with ``full``.
+    """
+    opts = options or BuildOptions()
+    cfg = config or active_config()
+    if body is not None and cfg.bodies and body not in cfg.bodies:
+        raise UsageError(f"body {body!r}", "is not configured",
+                         f"use one of: {', '.join(cfg.bodies)} (the [bodies] tables)")
+    report = RebuildReport()
+    with store_lock(store_path, "rebuild"):
+        with Store(store_path) as store:
+            report.sources = scan_sources(store, cfg, body)
+            pending = [s for s in report.sources if s.state != "loaded"]
+            report.ingested = _ingest(store, cfg, pending) if pending else []
+            empty = [n for n in _config_bodies(cfg, body)
+                     if not any(s.body == n and s.kind == "votes" for s in report.sources)]
+            report.notes = [f"bodies.{n}.sources matches no file yet" for n in empty]
+            if not store.scalar("SELECT count(*) FROM ballots"):
+                where = (f"the sources of {', '.join(empty)} match no file" if empty else
+                         "no bodies are configured")
+                raise UsageError("rebuild", f"the store is empty and {where}",
+                                 "put the ballot files where the [bodies] sources globs point "
+                                 "(paths relative to blocwatch.toml; see 'blocwatch init')")
+            report.stale = stale_periods(store, opts, body)
+            if full or report.stale:
+                inputs = {"files": {str(s.path): s.sha256 for s in report.ingested},
+                          "stale": [[s.body, s.period, s.reason] for s in report.stale]}
+                only = None if full else {(s.body, s.period) for s in report.stale}
+                report.build = build(store, body=body, options=opts, only_changed=not full,
+                                     progress=progress, command="rebuild", inputs=inputs,
+                                     only=only)
+            newest = results_run(store)
+        if write_outputs is not None and out is not None and newest is not None and (
+                full or not outputs_current(out, newest)):
+            report.outputs = swap_outputs(out, write_outputs, newest)
+    return report

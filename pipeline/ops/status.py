@@ -1,0 +1,163 @@
+"""``blocwatch status``: what the store holds, what is stale, and how the last run ended.
+
+Reads only (the store is opened read-only and the lock is merely probed). While another run
+holds the lock the store cannot be opened (DuckDB allows one writing process and no readers
+beside it), so status then names the run in progress and stops there. A run row still marked
+``running`` while the lock is free belongs to a run that was killed: it is shown as
+``interrupted``.
+"""
+
+from __future__ import annotations
+
+import json
+from dataclasses import asdict, dataclass, field
+from pathlib import Path
+
+from blocwatch.pipeline.build.compute import BuildOptions
+from blocwatch.pipeline.config import Config, active_config
+from blocwatch.pipeline.ops.lock import describe, lock_holder
+from blocwatch.pipeline.ops.rebuild import scan_sources, stale_periods
+from blocwatch.pipeline.store.database import Store
+
+
+@dataclass
+class BodyStatus:
+    body: str
+    members: int = 0
+    ballots: int = 0
+    first_ballot: str | None = None
+    last_ballot: str | None = None
+    periods: list[str] = field(default_factory=list)
+    last_ingest: dict | None = None
+    stale: list[list] = field(default_factory=list)  # [period, reason]
+    pending_files: list[list] = field(default_factory=list)  # [path, state]
+
+
+@dataclass
+class StatusReport:
+    store: str
+    exists: bool
+    lock: dict | None = None  # the holder's record, when a run holds the lock
+    bodies: list[BodyStatus] = field(default_factory=list)
+    last_run: dict | None = None
+    interrupted_runs: list[int] = field(default_factory=list)
+
+    def to_json(self) -> str:
+        return json.dumps(asdict(self), indent=2, default=str)
+
+    def lines(self) -> list[str]:
+        out = [f"store: {self.store}" + ("" if self.exists else " (not created yet)")]
+        if self.lock is not None:
+            out.append(f"lock: held by a run in progress ({describe(self.lock)}); the store "
+                       "is busy until it finishes")
+            return out
+        out.append("lock: free")
+        for b in self.bodies:
+            out.append(f"body: {b.body}")
+            if b.ballots:
+                out.append(f"  {b.ballots} ballots from {b.first_ballot} to {b.last_ballot}, "
+                           f"{b.members} members")
+            span = f" ({b.periods[0]} .. {b.periods[-1]})" if b.periods else ""
+            out.append(f"  periods built: {len(b.periods)}{span}")
+            if b.last_ingest:
+                li = b.last_ingest
+                files = li["files"] if len(li["files"]) <= 3 else \
+                    [*li["files"][:2], f"{len(li['files']) - 2} more"]
+                out.append(f"  last ingest: {li['loaded_at']}, {li['rows']} rows from "
+                           f"{', '.join(files)}")
+            else:
+                out.append("  last ingest: none")
+            if b.pending_files:
+                out.append("  files to load: " + ", ".join(f"{p} ({s})"
+                                                          for p, s in b.pending_files))
+            if b.stale:
+                out.append("  stale: " + ", ".join(f"{p or 'trends'} ({r})" for p, r in b.stale))
+            elif b.periods and not b.pending_files:
+                out.append("  stale: none (up to date)")
+        if self.last_run:
+            r = self.last_run
+            out.append(f"last run: {r['run_id']} {r['command']} started {r['started']}, "
+                       f"{_outcome(r)}, {len(r['recomputed'])} period(s) recomputed")
+        else:
+            out.append("last run: none")
+        if self.interrupted_runs:
+            out.append("interrupted runs: " + ", ".join(map(str, self.interrupted_runs))
+                       + " (killed before they finished; their finished periods are kept)")
+        return out
+
+
+def _outcome(run: dict) -> str:
+    if run["finished"] is None:
+        return run["status"]
+    return f"finished {run['finished']}, {run['status']}"
+
+
+def status(store_path: str | Path, *, options: BuildOptions | None = None,
+           config: Config | None = None, body: str | None = None) -> StatusReport:
+    """Gather the status of ``store_path`` under the given build options and config."""
+    opts = options or BuildOptions()
+    cfg = config or active_config()
+    report = StatusReport(str(store_path), Path(store_path).exists())
+    report.lock = lock_holder(store_path)
+    if report.lock is not None:
+        return report
+    if not report.exists:
+        report.bodies = _bodies(None, cfg, opts, body)
+        return report
+    with Store(store_path, read_only=True) as store:
+        report.bodies = _bodies(store, cfg, opts, body)
+        rows = store.df("SELECT * FROM runs ORDER BY run_id")
+    if not rows.empty:
+        runs = rows.to_dict("records")
+        # The lock is free, so no run is in progress: a 'running' row is one that was killed.
+        for r in runs:
+            if r["status"] == "running":
+                r["status"] = "interrupted"
+        report.interrupted_runs = [int(r["run_id"]) for r in runs if r["status"] == "interrupted"]
+        last = runs[-1]
+        # NULL until a run finishes: a killed run recomputed nothing it recorded
+        done = last["recomputed"]
+        last["recomputed"] = json.loads(done) if isinstance(done, str) and done else []
+        report.last_run = {k: (None if _missing(v) else v) for k, v in last.items()}
+    return report
+
+
+def _missing(value) -> bool:
+    try:
+        return value != value or value is None  # NaN / NaT / None
+    except (TypeError, ValueError):
+        return False
+
+
+def _bodies(store: Store | None, cfg: Config, opts: BuildOptions,
+            body: str | None) -> list[BodyStatus]:
+    names = list(cfg.bodies)
+    if store is not None:
+        names += [r[0] for r in store.rows("SELECT body FROM bodies ORDER BY body")]
+    names = [n for n in dict.fromkeys(names) if body is None or n == body]
+    out = {n: BodyStatus(n) for n in names}
+    for src in scan_sources(store, cfg, body):
+        if src.state != "loaded" and src.body in out:
+            out[src.body].pending_files.append([str(src.path), src.state])
+    if store is None:
+        return list(out.values())
+    for name, bs in out.items():
+        bs.members = int(store.scalar("SELECT count(*) FROM members WHERE body = ?", [name]))
+        n, first, last = store.rows("SELECT count(*), min(held_on), max(held_on) FROM ballots "
+                                    "WHERE body = ?", [name])[0]
+        bs.ballots, bs.first_ballot, bs.last_ballot = int(n), first and str(first), \
+            last and str(last)
+        bs.periods = [r[0] for r in store.rows(
+            "SELECT period FROM periods WHERE body = ? ORDER BY period_start", [name])]
+        # One load writes all its files with one time stamp: report that load whole.
+        ingest = store.df("SELECT file, rows, loaded_at FROM ingests WHERE body = ? AND "
+                          "loaded_at = (SELECT max(loaded_at) FROM ingests WHERE body = ?) "
+                          "ORDER BY file", [name, name])
+        if not ingest.empty:
+            bs.last_ingest = {"files": ingest["file"].tolist(),
+                              "rows": int(ingest["rows"].sum()),
+                              "loaded_at": str(ingest["loaded_at"].iloc[0])}
+    for s in stale_periods(store, opts, body):
+        if s.body in out:
+            out[s.body].stale.append([s.period, s.reason])
+    return list(out.values())

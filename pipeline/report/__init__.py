@@ -1,0 +1,1 @@
+"""Report: the stored results read back for exports and pages."""

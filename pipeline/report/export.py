@@ -1,0 +1,102 @@
+"""Reading results back: the export tables and the frames a report is drawn from."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.safety import neutralise_frame
+from blocwatch.pipeline.store.database import Store
+
+# Column order of each export (DESIGN.md: add columns at the end, never rename).
+EXPORT_QUERIES = {
+    "metrics": """
+        SELECT pm.body, pm.period, p.period_start, p.period_end, pm.metric, pm.value, pm.low,
+               pm.high, p.n_members, p.n_ballots, pm.note, pm.null_mean, pm.null_z, pm.null_p,
+               p.n_dropped, pm.run_id
+        FROM period_metrics pm JOIN periods p USING (body, period)
+        WHERE (? IS NULL OR pm.body = ?)
+        ORDER BY pm.body, p.period_start, pm.metric""",
+    "members": """
+        SELECT mm.body, mm.period, p.period_start, p.period_end, mm.member_id,
+               coalesce(m.name, mm.member_id) AS name, mm.group_name, mm.metric, mm.value,
+               mm.note, mm.run_id
+        FROM member_metrics mm JOIN periods p USING (body, period)
+        LEFT JOIN members m ON m.body = mm.body AND m.member_id = mm.member_id
+        WHERE (? IS NULL OR mm.body = ?)
+        ORDER BY mm.body, p.period_start, mm.member_id, mm.metric""",
+    "groups": """
+        SELECT g.body, g.period, p.period_start, p.period_end, g.group_a, g.group_b,
+               g.agreement, g.n_pairs, g.alpha, g.run_id
+        FROM group_agreement g JOIN periods p USING (body, period)
+        WHERE (? IS NULL OR g.body = ?)
+        ORDER BY g.body, p.period_start, g.group_a, g.group_b""",
+    "trends": """
+        SELECT body, metric, n_periods, mk_s, mk_z, mk_p, tau, slope, slope_low, slope_high,
+               change_points, note, run_id
+        FROM trends WHERE (? IS NULL OR body = ?) ORDER BY body, metric""",
+}
+EXPORT_TABLES = tuple(EXPORT_QUERIES)
+EXPORT_FORMATS = ("csv", "parquet", "json")
+
+
+def export_frame(store: Store, table: str, *, body: str | None = None) -> pd.DataFrame:
+    """One export table as a data frame (all bodies unless ``body``)."""
+    if table not in EXPORT_QUERIES:
+        raise UsageError(f"table {table!r}", "is not exportable",
+                         f"use one of: {', '.join(EXPORT_TABLES)}")
+    return store.df(EXPORT_QUERIES[table], [body, body])
+
+
+def write_frame(frame: pd.DataFrame, fmt: str, out: str | Path | None) -> Path | None:
+    """Write ``frame`` as csv/parquet/json to ``out`` (csv and json may go to stdout)."""
+    if fmt not in EXPORT_FORMATS:
+        raise UsageError(f"format {fmt!r}", "is not supported",
+                         f"use one of: {', '.join(EXPORT_FORMATS)}")
+    if fmt == "parquet" and out is None:
+        raise UsageError("export --format parquet", "needs a file", "add --out FILE")
+    if fmt == "csv":
+        text = neutralise_frame(frame).to_csv(index=False, date_format="%Y-%m-%d")
+    elif fmt == "json":
+        text = frame.to_json(orient="records", lines=True, date_format="iso")
+    if out is None:
+        print(text, end="")
+        return None
+    path = Path(out)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    if fmt == "parquet":
+        frame.to_parquet(path, index=False)
+    else:
+        path.write_text(text, encoding="utf-8")
+    return path
+
+
+def network_edges(store: Store, body: str, periods: list[str], *, options) -> pd.DataFrame:
+    """Agreement of every member pair with a value in the named periods (for network pictures)."""
+    from blocwatch.pipeline.build.compute import filter_period, period_input
+    from blocwatch.pipeline.build.matrices import load_votes
+    from blocwatch.pipeline.build.periods import Period
+
+    rows = store.rows("SELECT period, period_start, period_end FROM periods WHERE body = ?",
+                      [body])
+    known = {r[0]: Period(r[1], r[2], r[0]) for r in rows}
+    frames = []
+    for name in periods:
+        if name not in known:
+            continue
+        vm = filter_period(load_votes(store, body, known[name]), options.agreement)
+        if vm.votes.shape[0] < 2:
+            continue
+        inp = period_input(vm.votes, vm.labels, options, options.seed, scales=vm.scales)
+        i, j = np.triu_indices(inp.n, k=1)
+        a = inp.agreement[i, j]
+        ok = ~np.isnan(a)
+        frames.append(pd.DataFrame({"body": body, "period": name,
+                                    "member_a": vm.member_ids[i[ok]],
+                                    "member_b": vm.member_ids[j[ok]], "agreement": a[ok]}))
+    if not frames:
+        return pd.DataFrame(columns=["body", "period", "member_a", "member_b", "agreement"])
+    return pd.concat(frames, ignore_index=True)

@@ -1,0 +1,1 @@
+"""Store: the DuckDB file, its schema, and the tables' reads and writes."""
