@@ -5,7 +5,7 @@ replicate and per permutation, so scikit-learn's per-fit overhead (validation, s
 dominated its cost. This module fits the same model as
 ``sklearn.linear_model.LogisticRegression(C=C)`` — binary with one coefficient vector, several
 classes with the symmetric multinomial parametrisation, intercepts unpenalised — and
-``tests/unit/test_logistic.py`` checks coefficients and predictions against scikit-learn.
+``tests/unit/metrics/test_logistic.py`` checks coefficients and predictions against scikit-learn.
 """
 
 from __future__ import annotations

@@ -4,7 +4,7 @@ A *family* is a function that takes a :class:`PeriodInput` and returns one
 :class:`MetricValue` per metric name it declares (one Louvain run gives ``best_modularity``,
 ``communities`` and ``community_group_ari`` together). The pipeline calls
 :func:`compute_all` once per period and once per bootstrap replicate; the invariance tests in
-``tests/unit/test_registry.py`` run over :data:`FAMILIES`.
+``tests/unit/metrics/test_registry.py`` run over :data:`FAMILIES`.
 
 Metric names are part of the export contract: add names, never rename them.
 """

@@ -15,7 +15,7 @@ from blocwatch.pipeline.ingest.readers import (
 from blocwatch.pipeline.ingest.validate import Problems
 from blocwatch.pipeline.store.database import Store
 
-FIXTURES = Path(__file__).resolve().parents[2] / "fixtures" / "ingest"
+FIXTURES = Path(__file__).resolve().parents[4] / "fixtures" / "ingest"
 
 
 @pytest.mark.parametrize("head,delim,names", [
