@@ -15,6 +15,7 @@ from pathlib import Path
 import click
 
 from blocwatch.dashboards.errors import DashboardError
+from blocwatch.pipeline.cli.usage import BlocwatchGroup
 from blocwatch.pipeline.errors import EXIT_FAILURE, EXIT_USAGE, BlocwatchError
 
 STORE_HELP = "DuckDB store file (default: ./blocwatch.duckdb, or the one blocwatch.toml names)."
@@ -54,7 +55,7 @@ def store_option(func):
                         default=None, help=STORE_HELP)(func)
 
 
-@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.group(cls=BlocwatchGroup, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(package_name="blocwatch")
 @click.option("--debug", is_flag=True, default=False, help="Show a traceback on errors.")
 @click.option("--quiet", "-q", is_flag=True, default=False, help="No progress output.")
