@@ -6,6 +6,9 @@ A *family* is a function that takes a :class:`PeriodInput` and returns one
 :func:`compute_all` once per period and once per bootstrap replicate; the invariance tests in
 ``tests/unit/metrics/test_registry.py`` run over :data:`FAMILIES`.
 
+What each metric means (label, description, formula, reference, check values) is in
+:mod:`blocwatch.metrics.reference`, read through :func:`metric_info`.
+
 Metric names are part of the export contract: add names, never rename them.
 """
 
@@ -16,6 +19,8 @@ from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import numpy as np
+
+from blocwatch.metrics.reference import METRIC_INFO, MetricInfo
 
 # Vote codes in a member × ballot matrix (int8).
 MISSING, YES, NO, ABSTAIN = 0, 1, 2, 3
@@ -118,6 +123,14 @@ def register(name: str, metrics: tuple[str, ...], *,
 def metric_names() -> list[str]:
     """Every metric name, in registration order."""
     return [m for fam in FAMILIES.values() for m in fam.metrics]
+
+
+def metric_info(metric: str) -> MetricInfo:
+    """Label, description, formula, reference and check values of a registered metric
+    (:mod:`blocwatch.metrics.reference`); KeyError names a metric without an entry."""
+    if metric not in METRIC_INFO:
+        raise KeyError(f"metric {metric!r} has no entry in blocwatch.metrics.reference")
+    return METRIC_INFO[metric]
 
 
 def compute_all(inp: PeriodInput, *, families: list[str] | None = None
