@@ -4,16 +4,24 @@ from __future__ import annotations
 
 import pandas as pd
 
-from blocwatch.dashboards import labels, text
+from blocwatch.dashboards import labels, numbers, text
 from blocwatch.dashboards.chart import Chart, slug
 from blocwatch.dashboards.groups import bridge_label, heatmap_chart, top_bridges
-from blocwatch.dashboards.headline import headline, lead_metric, summary, trend_sentence
+from blocwatch.dashboards.headline import (
+    SUMMARY_COLUMNS,
+    headline_metrics,
+    lead_metric,
+    summary,
+    summary_table,
+    trend_sentence,
+)
 from blocwatch.dashboards.html import chart_block, numbers_table, page
 from blocwatch.dashboards.network import network_chart
 from blocwatch.dashboards.periods import period_table
 from blocwatch.dashboards.safe import esc
 from blocwatch.dashboards.tables import ReportTables
 from blocwatch.dashboards.trends import change_points, trend_chart
+from blocwatch.dashboards.verdict import MIN_BALLOTS, MIN_MEMBERS, opening
 
 TREND_COLUMNS = {"period": "Period", "value": "Value", "low": "Low", "high": "High",
                  "null_mean": "Shuffled-group mean", "null_p": "Permutation p",
@@ -51,22 +59,15 @@ def build_briefing(tables: ReportTables, body: str, *, colours: dict[str, str],
     charts: list[Chart] = []
     parts = [f"<header><p class='bw-kicker'>blocwatch briefing · voting patterns</p>"
              f"<h1>{esc(body)}</h1>{_span(m)}</header>", _nav()]
-    parts.append(f"<section id='summary'><p class='bw-headline'>"
-                 f"{esc(headline(m, body, trends=t.trends))}</p>")
-    lead = lead_metric(m, body)
-    if lead and (sentence := trend_sentence(t.trends, body, lead)):
-        parts.append(f"<p>{esc(sentence)}</p>")
+    known = labels.catalogue(tables.measures)
+    parts.append(_summary(t, body, known))
     names = labels.ordered(m["metric"].dropna().unique())
-    others = [n for n in names if n != lead]
-    if others:
-        parts.append("<ul>" + "".join(f"<li>{esc(summary(m, body, n, trends=t.trends))}</li>"
-                                      for n in others) + "</ul>")
-    parts.append("</section><section id='trends'><h2>How the measures moved</h2>")
+    parts.append("<section id='trends'><h2>How the measures moved</h2>")
     if not names:
         parts.append("<p class='bw-muted'>Not computed: the results hold no metric for this "
                      "body.</p>")
     for name in names:
-        c = trend_chart(m, name, trends=t.trends)
+        c = trend_chart(m, name, trends=t.trends, known=known)
         charts.append(c)
         parts.append(chart_block(c, f"bw-{key}-{c.name}", TREND_COLUMNS, metric=name))
     chosen = chosen_periods(t, body, periods)
@@ -91,11 +92,59 @@ def build_briefing(tables: ReportTables, body: str, *, colours: dict[str, str],
         "n_pairs": "Pairs"}))
     parts.append(_bridges(t, body, n_bridges, bridge, chosen))
     parts.append(text.reading_html())
-    parts.append(text.methods_html(names, sorted(t.members["metric"].dropna().unique())))
+    parts.append(text.methods_html(names, sorted(t.members["metric"].dropna().unique()), known))
     parts.append(text.provenance_html(tables.provenance, sorted(m["run_id"].dropna().unique())))
     html = page(f"{body} — blocwatch briefing", "\n".join(parts),
                 charts=any(not c.empty for c in charts))
     return html, charts
+
+
+VERDICT_RULE = (
+    "How the opening sentence is chosen: from the lead measure only. Too little data to tell "
+    f"when it has a value in fewer than two periods, when a typical period has fewer than "
+    f"{MIN_MEMBERS} members or {MIN_BALLOTS} counted ballots, or when the first or last period "
+    "has no interval that can be read. A clear rise or fall when the 95 % intervals of the "
+    "first and last period do not overlap and the trend test (where computed) does not point "
+    "the other way with p < 0.05. No clear change otherwise.")
+
+
+def _summary(t: ReportTables, body: str, known: dict) -> str:
+    """Verdict first, then at most a handful of headline sentences, then every measure."""
+    m = t.metrics
+    v = opening(m, body, trends=t.trends, known=known)
+    parts = [f"<section id='summary'><p class='bw-headline' data-verdict='{esc(v.kind)}'>"
+             f"{esc(v.sentence)}</p>",
+             f"<details class='bw-rule'><summary>How this sentence is chosen</summary>"
+             f"<p>{esc(VERDICT_RULE)}</p></details>"]
+    lead = lead_metric(m, body)
+    if lead and (sentence := trend_sentence(t.trends, body, lead)):
+        parts.append(f"<p>{esc(sentence)}</p>")
+    heads = headline_metrics(m, body)
+    if heads:
+        parts.append("<ul class='bw-headlines'>" + "".join(
+            f"<li>{esc(summary(m, body, n, trends=t.trends, known=known))}</li>"
+            for n in heads) + "</ul>")
+    if _flat_intervals(m, known):
+        parts.append("<p class='bw-caution'>Some intervals on this page show no spread across "
+                     "resamples. That is not certainty: with few members or few contested "
+                     "ballots, resampling ballots cannot show how much the figure could "
+                     "change. Such values are marked and no interval is printed for them.</p>")
+    table = summary_table(m, body, trends=t.trends, known=known)
+    if not table.empty:
+        parts.append("<h2>Every measure</h2><p>First and last period with a value; "
+                     "“Intervals” says whether the two 95 % intervals overlap (apart: a clear "
+                     "difference); “Trend p” is the Mann–Kendall test over all periods.</p>"
+                     + numbers_table(table, SUMMARY_COLUMNS))
+    return "".join(parts) + "</section>"
+
+
+def _flat_intervals(m: pd.DataFrame, known: dict) -> bool:
+    """Whether any non-count value has an interval with no spread at the precision shown."""
+    for r in m[m["value"].notna()].itertuples():
+        integer = labels.info(r.metric, known).integer
+        if not integer and numbers.interval_state(r.value, r.low, r.high) == "degenerate":
+            return True
+    return False
 
 
 def _bridges(t: ReportTables, body: str, n: int, bridge: str | None,
@@ -124,7 +173,8 @@ def _span(m: pd.DataFrame) -> str:
     p = period_table(m)
     if p.empty:
         return ""
-    return (f"<p class='bw-kicker'>{len(p)} periods, {esc(p['period'].iloc[0])} to "
+    return (f"<p class='bw-kicker'>{numbers.plural(len(p), 'period')}, "
+            f"{esc(p['period'].iloc[0])} to "
             f"{esc(p['period'].iloc[-1])}</p>")
 
 

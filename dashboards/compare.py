@@ -5,12 +5,12 @@ from __future__ import annotations
 from blocwatch.dashboards import labels, text
 from blocwatch.dashboards.briefing import TREND_COLUMNS
 from blocwatch.dashboards.chart import Chart, slug
-from blocwatch.dashboards.headline import lead_metric, summary
 from blocwatch.dashboards.html import chart_block, page
 from blocwatch.dashboards.periods import length_note, period_table
 from blocwatch.dashboards.safe import esc
 from blocwatch.dashboards.tables import ReportTables
 from blocwatch.dashboards.trends import trend_chart
+from blocwatch.dashboards.verdict import opening
 
 COMPARE_COLUMNS = {"body": "Body", **TREND_COLUMNS}
 
@@ -22,6 +22,7 @@ def build_comparison(tables: ReportTables, *,
     ``briefing_links`` maps body → relative URL of its briefing page (linked from the list).
     """
     m = tables.metrics
+    known = labels.catalogue(tables.measures)
     bodies = tables.bodies()
     charts: list[Chart] = []
     parts = ["<header><p class='bw-kicker'>blocwatch · comparison</p>"
@@ -35,8 +36,7 @@ def build_comparison(tables: ReportTables, *,
         parts.append(f"<p class='bw-caution'>{esc(note)}</p>")
     items = []
     for body in bodies:
-        lead = lead_metric(m, body)
-        line = summary(m, body, lead, trends=tables.trends) if lead else "No metric computed."
+        line = opening(m, body, trends=tables.trends, known=known).sentence
         link = (briefing_links or {}).get(body)
         name = f"<a href='{esc(link)}'>{esc(body)}</a>" if link else esc(body)
         items.append(f"<li><strong>{name}</strong>: {esc(line)}</li>")
@@ -47,12 +47,12 @@ def build_comparison(tables: ReportTables, *,
     if not names:
         parts.append("<p class='bw-muted'>Not computed: the results hold no metric.</p>")
     for name in names:
-        c = trend_chart(m, name, trends=tables.trends, name_prefix="compare")
+        c = trend_chart(m, name, trends=tables.trends, name_prefix="compare", known=known)
         charts.append(c)
         parts.append(chart_block(c, f"bw-compare-{slug(name)}", COMPARE_COLUMNS, metric=name))
     parts.append("</section>")
     parts.append(text.reading_html())
-    parts.append(text.methods_html(names, []))
+    parts.append(text.methods_html(names, [], known))
     parts.append(text.provenance_html(tables.provenance, sorted(m["run_id"].dropna().unique())))
     html = page("Trends across bodies — blocwatch", "\n".join(parts),
                 charts=any(not c.empty for c in charts))

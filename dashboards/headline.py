@@ -1,9 +1,11 @@
-"""Sentences written from the numbers: the page headline and the one-line summaries.
+"""Sentences and the summary table written from the numbers, under the page's verdict.
 
-Every number in a sentence is read from the tables and formatted with ``labels.fmt``; nothing is
-typed in. The "largest change" is the biggest step between consecutive computed periods of the
-series as stored (a description of the drawn line, not a new measure); change points and trend
-statistics are quoted from the trends table when it has them.
+Every number is read from the tables and typeset by ``numbers``; nothing is typed in. The
+briefing shows the verdict (``verdict``), then at most ``HEADLINE_LIMIT`` sentences on the
+headline measures (the first of ``HEADLINE_METRICS`` the body has), then every measure in one
+table (``summary_table``). The "largest step" is the biggest change between consecutive computed
+periods of the series as stored (a description of the drawn line, not a new measure); change
+points and trend statistics are quoted from the trends table when it has them.
 """
 
 from __future__ import annotations
@@ -12,11 +14,15 @@ import math
 
 import pandas as pd
 
-from blocwatch.dashboards import labels
+from blocwatch.dashboards import labels, numbers
 from blocwatch.dashboards.periods import period_table
 from blocwatch.dashboards.trends import change_points
 
 LEAD_METRICS = ("group_modularity", "separability", "silhouette", "ei_index")
+# Headline sentences, in this order: one measure per idea (graph, map, ties, ballots).
+HEADLINE_METRICS = ("group_modularity", "separability", "cross_group_share", "group_line_share",
+                    "krippendorff_alpha_within")
+HEADLINE_LIMIT = 4
 
 
 def _series(metrics: pd.DataFrame, body: str, metric: str) -> pd.DataFrame:
@@ -26,7 +32,7 @@ def _series(metrics: pd.DataFrame, body: str, metric: str) -> pd.DataFrame:
 
 
 def lead_metric(metrics: pd.DataFrame, body: str) -> str | None:
-    """The metric the headline is about: the first of LEAD_METRICS with a value, else any."""
+    """The metric the verdict is about: the first of LEAD_METRICS with a value, else any."""
     have = metrics[(metrics["body"] == body) & metrics["value"].notna()]["metric"].unique()
     for m in LEAD_METRICS:
         if m in have:
@@ -35,57 +41,75 @@ def lead_metric(metrics: pd.DataFrame, body: str) -> str | None:
     return ordered[0] if ordered else None
 
 
+def headline_metrics(metrics: pd.DataFrame, body: str) -> list[str]:
+    """The measures written out as sentences: the lead, then HEADLINE_METRICS, at most
+    HEADLINE_LIMIT, only those with a value."""
+    have = set(metrics[(metrics["body"] == body) & metrics["value"].notna()]["metric"])
+    lead = lead_metric(metrics, body)
+    names = [lead] if lead else []
+    names += [m for m in HEADLINE_METRICS if m in have and m != lead]
+    return names[:HEADLINE_LIMIT]
+
+
 def _join(items: list[str]) -> str:
     return items[0] if len(items) == 1 else ", ".join(items[:-1]) + " and " + items[-1]
 
 
-def _signed(v: float, metric: str) -> str:
-    return ("+" if v > 0 else "−" if v < 0 else "±") + labels.fmt(abs(v), metric)
+def _estimate(row, info: labels.MetricInfo) -> str:
+    return numbers.fmt_estimate(row.value, row.low, row.high, integer=info.integer)
 
 
 def summary(metrics: pd.DataFrame, body: str, metric: str, *,
-            trends: pd.DataFrame | None = None) -> str:
-    """One sentence on ``metric`` for ``body``: first and last value, direction, largest change.
+            trends: pd.DataFrame | None = None,
+            known: dict[str, labels.MetricInfo] | None = None) -> str:
+    """One sentence on ``metric`` for ``body``: first and last value, direction, largest step.
 
-    Example: "Group modularity rose from 0.05 [0.03–0.07] in 2001 to 0.21 [0.18–0.24] in 2024;
-    the largest change came in 2012 (+0.08 from 2011)."
+    Example: "Group modularity rose from 0.05 (0.03 to 0.07) in 2001 to 0.21 (0.18 to 0.24) in
+    2024, and the two intervals do not overlap; the largest step came in 2012 (+0.08 from
+    2011)."
     """
-    label = labels.info(metric).label
+    info = labels.info(metric, known)
     s = _series(metrics, body, metric)
     have = s[s["value"].notna()]
     if have.empty:
         notes = [n for n in s["note"].dropna().unique()]
-        why = f": {'; '.join(notes[:2])}" if notes else ""
-        return f"{label} was not computed for {body}{why}."
+        why = f" ({'; '.join(notes[:2])})" if notes else ""
+        return f"{info.label}: not computed for {body}{why}."
     first, last = have.iloc[0], have.iloc[-1]
-    f_txt = labels.fmt_interval(first.value, first.low, first.high, metric)
     if len(have) == 1:
-        return f"{label} was {f_txt} in {first.period} (the only period with a value)."
-    l_txt = labels.fmt_interval(last.value, last.low, last.high, metric)
-    shown_first, shown_last = labels.fmt(first.value, metric), labels.fmt(last.value, metric)
-    if shown_first == shown_last:
-        text = f"{label} was {l_txt} in {last.period}, as in {first.period} ({f_txt})"
+        return f"{info.label}: {_estimate(first, info)} in {first.period} (the only period " \
+               "with a value)."
+    shown = [numbers.fmt(r.value, integer=info.integer) for r in (first, last)]
+    if shown[0] == shown[1]:
+        text = (f"{info.label}: {_estimate(last, info)} in {last.period}, as in {first.period}"
+                f" ({_estimate(first, info)})")
     else:
         verb = "rose" if last.value > first.value else "fell"
-        text = f"{label} {verb} from {f_txt} in {first.period} to {l_txt} in {last.period}"
-    if _overlap(first, last):
-        text += " (the two intervals overlap)"
+        text = (f"{info.label} {verb} from {_estimate(first, info)} in {first.period} to "
+                f"{_estimate(last, info)} in {last.period}")
+    overlap = _overlap(first, last, info)
+    if overlap is not None:
+        text += (", and the two intervals overlap (no clear difference)" if overlap
+                 else ", and the two intervals do not overlap")
     steps = have["value"].diff().to_numpy()[1:]
-    if len(have) > 2 and len(steps) and not all(math.isnan(x) for x in steps):
+    if len(have) > 2 and not all(math.isnan(x) for x in steps):
         i = int(pd.Series(steps).abs().idxmax()) + 1
-        text += (f"; the largest change came in {have['period'].iloc[i]} "
-                 f"({_signed(steps[i - 1], metric)} from {have['period'].iloc[i - 1]})")
+        change = numbers.fmt_change(steps[i - 1], integer=info.integer)
+        if change is not None:  # no "largest step" of zero
+            text += (f"; the largest step came in {have['period'].iloc[i]} ({change} from "
+                     f"{have['period'].iloc[i - 1]})")
     cps = change_points(trends, body, metric)
     if cps:
         text += f"; change-point detection marks {_join(cps)}"
     return text + "."
 
 
-def _overlap(a, b) -> bool:
-    vals = [a.low, a.high, b.low, b.high]
-    if any(v is None or (isinstance(v, float) and math.isnan(v)) for v in vals):
-        return False
-    return a.low <= b.high and b.low <= a.high
+def _overlap(a, b, info: labels.MetricInfo) -> bool | None:
+    """Whether two readable intervals overlap; None when either cannot be read."""
+    for r in (a, b):
+        if numbers.interval_state(r.value, r.low, r.high, integer=info.integer) != "ok":
+            return None
+    return bool(a.low <= b.high and b.low <= a.high)
 
 
 def trend_sentence(trends: pd.DataFrame | None, body: str, metric: str) -> str:
@@ -96,20 +120,51 @@ def trend_sentence(trends: pd.DataFrame | None, body: str, metric: str) -> str:
     if rows.empty or pd.isna(rows["mk_p"].iloc[0]):
         return ""
     r = rows.iloc[0]
-    p = "p < 0.001" if r.mk_p < 0.001 else f"p = {r.mk_p:.3f}"
-    text = f"Mann–Kendall trend test over {labels.fmt(r.n_periods, 'communities')} periods: "
-    text += f"τ = {labels.fmt(r.tau)}, {p}"
+    p = numbers.fmt_p(r.mk_p)
+    p = f"p {p}" if p.startswith("<") else f"p = {p}"
+    text = (f"Mann–Kendall trend test over {numbers.plural(r.n_periods, 'period')}: "
+            f"τ = {numbers.fmt(r.tau)}, {p}")
     if not pd.isna(r.slope):
         # Slopes per period are small: three decimals keep them from rounding to zero.
-        text += f"; Theil–Sen slope {r.slope:+.3f} per period"
+        slope = f"{r.slope:+.3f}".replace("-", numbers.MINUS)
+        text += f"; Theil–Sen slope {slope} per period"
         if not (pd.isna(r.slope_low) or pd.isna(r.slope_high)):
-            text += f" [{r.slope_low:.3f} to {r.slope_high:.3f}]"
+            low, high = (f"{v:.3f}".replace("-", numbers.MINUS) for v in (r.slope_low,
+                                                                         r.slope_high))
+            text += f" ({low} to {high})"
     return text + "."
 
 
-def headline(metrics: pd.DataFrame, body: str, *, trends: pd.DataFrame | None = None) -> str:
-    """The page's opening sentence for ``body`` (about its lead metric)."""
-    metric = lead_metric(metrics, body)
-    if metric is None:
-        return f"No metric has been computed for {body} yet."
-    return summary(metrics, body, metric, trends=trends)
+SUMMARY_COLUMNS = {"label": "Measure", "first": "First period", "last": "Last period",
+                   "change": "Change", "intervals": "Intervals", "trend_p": "Trend p",
+                   "direction": "More division when"}
+
+
+def summary_table(metrics: pd.DataFrame, body: str, *, trends: pd.DataFrame | None = None,
+                  known: dict[str, labels.MetricInfo] | None = None) -> pd.DataFrame:
+    """Every measure of ``body`` in one row: first and last value as text, the change, whether
+    the two intervals overlap, the trend test's p and which direction means more division."""
+    rows = []
+    for metric in labels.ordered(metrics.loc[metrics["body"] == body, "metric"].dropna()
+                                 .unique()):
+        info = labels.info(metric, known)
+        s = _series(metrics, body, metric)
+        have = s[s["value"].notna()]
+        row = {"metric": metric, "label": info.label,
+               "direction": {"higher": "higher", "lower": "lower"}.get(info.direction, "")}
+        if have.empty:
+            row |= {"first": "not computed", "last": "", "change": "", "intervals": ""}
+        else:
+            first, last = have.iloc[0], have.iloc[-1]
+            row["first"] = f"{_estimate(first, info)} in {first.period}"
+            row["last"] = f"{_estimate(last, info)} in {last.period}" if len(have) > 1 else ""
+            change = numbers.fmt_change(last.value - first.value, integer=info.integer)
+            row["change"] = (change or "none") if len(have) > 1 else ""
+            overlap = _overlap(first, last, info) if len(have) > 1 else None
+            row["intervals"] = {True: "overlap", False: "apart", None: ""}[overlap]
+        t = trends[(trends["body"] == body) & (trends["metric"] == metric)] \
+            if trends is not None and not trends.empty else pd.DataFrame()
+        row["trend_p"] = (numbers.fmt_p(t["mk_p"].iloc[0])
+                          if len(t) and pd.notna(t["mk_p"].iloc[0]) else "")
+        rows.append(row)
+    return pd.DataFrame(rows, columns=["metric", *SUMMARY_COLUMNS])

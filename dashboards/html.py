@@ -19,7 +19,7 @@ from pathlib import Path
 import pandas as pd
 import plotly
 
-from blocwatch.dashboards import labels
+from blocwatch.dashboards import labels, numbers
 from blocwatch.dashboards.chart import Chart
 from blocwatch.dashboards.safe import esc, script_json
 from blocwatch.dashboards.style import CSS
@@ -92,10 +92,11 @@ def _cell(col: str, v, metric: str) -> str:
     if isinstance(v, bool):
         return f"<td>{'yes' if v else ''}</td>"
     if isinstance(v, (int, float)) and col.endswith("_p"):
-        return f"<td class='num'>{'&lt;0.001' if v < 0.001 else f'{v:.3f}'}</td>"
+        return f"<td class='num'>{esc(numbers.fmt_p(v))}</td>"
     if isinstance(v, (int, float)):
-        kind = "communities" if col in INT_COLUMNS else metric if col in VALUE_COLUMNS else col
-        return f"<td class='num'>{esc(labels.fmt(v, kind))}</td>"
+        integer = (col in INT_COLUMNS or col in labels.INTEGER_MEMBER_METRICS
+                   or (col in VALUE_COLUMNS and labels.info(metric).integer))
+        return f"<td class='num'>{esc(numbers.fmt(v, integer=integer))}</td>"
     return f"<td>{esc(v)}</td>"
 
 

@@ -13,7 +13,7 @@ import numpy as np
 import pandas as pd
 import plotly.graph_objects as go
 
-from blocwatch.dashboards import labels, palette
+from blocwatch.dashboards import labels, numbers, palette
 from blocwatch.dashboards.chart import Chart, plain
 from blocwatch.dashboards.safe import esc
 
@@ -116,7 +116,8 @@ def _add_edges(fig: go.Figure, kept: pd.DataFrame, nodes: pd.DataFrame) -> None:
         # Segments a→b separated by NaN, built as one array per opacity step (no pair loop).
         xs = np.column_stack([x[a[sel]], x[b[sel]], np.full(sel.sum(), np.nan)]).ravel()
         ys = np.column_stack([y[a[sel]], y[b[sel]], np.full(sel.sum(), np.nan)]).ravel()
-        band = f"agreement {lo + (hi - lo) * k / 4:.2f}–{lo + (hi - lo) * (k + 1) / 4:.2f}"
+        band = "agreement " + numbers.fmt_range(lo + (hi - lo) * k / 4,
+                                                lo + (hi - lo) * (k + 1) / 4)
         fig.add_scatter(x=plain(xs), y=plain(ys), mode="lines", hoverinfo="skip", name=band,
                         line=dict(color=palette.with_alpha(palette.INK, alpha), width=1),
                         showlegend=False, legendgroup="ties")
@@ -135,7 +136,9 @@ def _add_nodes(fig: go.Figure, nodes: pd.DataFrame, bridge: str | None,
     hover = []
     for r in nodes.to_dict("records"):
         lines = [f"<b>{esc(r['name'])}</b>", esc(r["group_name"] or "no group")]
-        lines += [f"{esc(labels.member_label(c))}: {labels.fmt(r[c], c)}" for c in score_cols]
+        lines += [f"{esc(labels.member_label(c))}: "
+                  f"{numbers.fmt(r[c], integer=c in labels.INTEGER_MEMBER_METRICS)}"
+                  for c in score_cols]
         hover.append("<br>".join(lines))
     nodes = nodes.assign(_size=size, _hover=hover)
     for group, g in nodes.groupby(nodes["group_name"].fillna(""), sort=True):

@@ -42,10 +42,17 @@ SCHEMAS: dict[str, tuple[tuple[str, ...], tuple[str, ...]]] = {
         ("body", "period", "member_a", "member_b", "agreement"),
         (),
     ),
+    "measures": (
+        ("metric",),
+        ("label", "description", "formula", "direction", "reference"),
+    ),
 }
+# Tables that belong to no body (kept whole by ``for_body``).
+_SHARED = {"measures"}
 
 _TEXT = {"body", "period", "metric", "member_id", "name", "group_name", "group_a", "group_b",
-         "member_a", "member_b", "note", "run_id", "change_points"}
+         "member_a", "member_b", "note", "run_id", "change_points", "label", "description",
+         "formula", "direction", "reference"}
 _DATES = {"period_start", "period_end"}
 
 
@@ -101,6 +108,10 @@ class ReportTables:
         slope_high, change_points`` (a JSON list of period names), ``note``.
     edges : DataFrame, optional
         ``body, period, member_a, member_b, agreement`` for the network pictures.
+    measures : DataFrame, optional
+        The metric list: ``metric, label, description, formula, direction, reference``
+        (direction: ``higher`` or ``lower``, the side meaning more division). The Methods
+        section prints these; ``dashboards.labels`` fills in what is missing.
     provenance : dict
         Shown in the footer: e.g. ``data_fingerprint, tool_version, parameters, run_id,
         run_time``. Any keys are accepted; values are shown as text.
@@ -113,6 +124,7 @@ class ReportTables:
     group_agreement: pd.DataFrame | None = None
     trends: pd.DataFrame | None = None
     edges: pd.DataFrame | None = None
+    measures: pd.DataFrame | None = None
     provenance: dict[str, Any] = field(default_factory=dict)
     colours: dict[str, str] | None = None
 
@@ -125,7 +137,7 @@ class ReportTables:
     def bodies(self) -> list[str]:
         """Body names in order of first appearance in the metrics (then the other tables)."""
         seen: dict[str, None] = {}
-        for name in SCHEMAS:
+        for name in (n for n in SCHEMAS if n not in _SHARED):
             for body in getattr(self, name)["body"].dropna():
                 seen.setdefault(body, None)
         return list(seen)
@@ -133,7 +145,8 @@ class ReportTables:
     def for_body(self, body: str) -> ReportTables:
         """The same tables restricted to one body (provenance and colours kept)."""
         parts = {name: getattr(self, name) for name in SCHEMAS}
-        parts = {name: df[df["body"] == body] for name, df in parts.items()}
+        parts = {name: df if name in _SHARED else df[df["body"] == body]
+                 for name, df in parts.items()}
         return ReportTables(**parts, provenance=self.provenance, colours=self.colours)
 
     def groups(self) -> list[str]:

@@ -49,19 +49,30 @@ def reading_html() -> str:
             f"<div class='bw-caution'><ul>{items}</ul></div></section>")
 
 
-def methods_html(metric_names: list[str], member_metric_names: list[str]) -> str:
+DIRECTION_WORDS = {"higher": "Higher values mean more division between groups.",
+                   "lower": "Lower values mean more division between groups."}
+
+
+def methods_html(metric_names: list[str], member_metric_names: list[str],
+                 known: dict[str, labels.MetricInfo] | None = None) -> str:
+    """Every measure on the page: label, name, description, formula, direction, reference."""
     rows = []
     for m in labels.ordered(metric_names):
-        i = labels.info(m)
+        i = labels.info(m, known)
+        what = (f"{esc(_cap(i.what))}." if i.what
+                else "Not described by this version of blocwatch; see the exported metric list.")
+        formula = f"<br>Formula: <code>{esc(i.formula)}</code>" if i.formula else ""
+        direction = DIRECTION_WORDS.get(i.direction, "Neither direction alone means more division.")
         ref = f"<br><span class='bw-ref'>{esc(i.reference)}</span>" if i.reference else ""
         rows.append(f"<dt>{esc(i.label)} <code>{esc(m)}</code></dt>"
-                    f"<dd>{esc(_cap(i.what))}.{ref}</dd>")
+                    f"<dd>{what}{formula}<br>{esc(direction)}{ref}</dd>")
     for title, what, ref in EXTRA_METHODS:
         ref_html = f"<br><span class='bw-ref'>{esc(ref)}</span>" if ref else ""
         rows.append(f"<dt>{esc(title)}</dt><dd>{esc(_cap(what))}{ref_html}</dd>")
-    if member_metric_names:
-        names = ", ".join(f"{labels.member_label(m)} ({m})" for m in sorted(member_metric_names))
-        rows.append(f"<dt>Member scores</dt><dd>{esc(names)}; as stored with the results.</dd>")
+    for m in sorted(member_metric_names):
+        what = labels.MEMBER_WHAT.get(m, "a member score stored with the results")
+        rows.append(f"<dt>Member score: {esc(labels.member_label(m))} <code>{esc(m)}</code></dt>"
+                    f"<dd>{esc(_cap(what))}. Describes recorded votes only.</dd>")
     return (f"<section id='methods'><h2>Methods</h2><dl class='bw-methods'>{''.join(rows)}"
             "</dl></section>")
 

@@ -13,7 +13,7 @@ import json
 import pandas as pd
 import plotly.graph_objects as go
 
-from blocwatch.dashboards import labels, palette
+from blocwatch.dashboards import labels, numbers, palette
 from blocwatch.dashboards.chart import Chart, plain
 from blocwatch.dashboards.periods import is_dated, period_table
 from blocwatch.dashboards.safe import esc
@@ -34,7 +34,7 @@ def change_points(trends: pd.DataFrame | None, body: str, metric: str) -> list[s
     return out
 
 
-def _series(metrics: pd.DataFrame, metric: str, trends) -> pd.DataFrame:
+def _series(metrics: pd.DataFrame, metric: str, trends, known=None) -> pd.DataFrame:
     rows = metrics[metrics["metric"] == metric]
     periods = period_table(metrics)
     data = periods.merge(rows.drop(columns=["period_start", "period_end"]),
@@ -45,29 +45,48 @@ def _series(metrics: pd.DataFrame, metric: str, trends) -> pd.DataFrame:
         data.loc[(data["body"] == body) & data["period"].isin(cps), "change_point"] = True
     keep = ["body", "period", "period_start", "period_end", "x", "value", "low", "high",
             "null_mean", "null_p", "n_members", "n_ballots", "change_point", "note"]
-    return data[keep].reset_index(drop=True)
+    return _honest(data[keep].reset_index(drop=True), labels.info(metric, known).integer)
+
+
+def _honest(data: pd.DataFrame, integer: bool) -> pd.DataFrame:
+    """Never draw or list an interval that leaves out its estimate; say when one has no spread.
+
+    Such an interval is blanked (band and table) and the row's note says why, so the page can
+    never show "x (a to b)" with x outside a to b.
+    """
+    data = data.copy()
+    for i, r in data.iterrows():
+        state = numbers.interval_state(r.value, r.low, r.high, integer=integer)
+        if state not in numbers.INTERVAL_WORDS or (state == "degenerate" and integer):
+            continue
+        if state == "outside":
+            data.loc[i, ["low", "high"]] = float("nan")
+        said = numbers.INTERVAL_WORDS[state]
+        note = r.note if isinstance(r.note, str) and r.note else ""
+        data.loc[i, "note"] = f"{note}; {said}" if note else said[:1].upper() + said[1:]
+    return data
 
 
 def _hover(label: str) -> str:
     return ("<b>%{customdata[0]}</b> · %{customdata[1]}<br>" + esc(label)
-            + ": %{y:.3f}%{customdata[2]}<br>members %{customdata[3]}, ballots %{customdata[4]}"
+            + ": %{customdata[2]}<br>members %{customdata[3]}, ballots %{customdata[4]}"
             "%{customdata[5]}<extra></extra>")
 
 
-def _customdata(g: pd.DataFrame, metric: str) -> list[list[str]]:
+def _customdata(g: pd.DataFrame, integer: bool) -> list[list[str]]:
     rows = []
     for r in g.itertuples():
-        interval = labels.fmt_interval(r.value, r.low, r.high, metric)
-        interval = interval[interval.find(" "):] if "[" in interval else ""
+        interval = numbers.fmt_estimate(r.value, r.low, r.high, integer=integer)
         note = f"<br>{esc(r.note)}" if isinstance(r.note, str) and r.note else ""
         rows.append([esc(r.body), esc(r.period), esc(interval),
-                     labels.fmt(r.n_members, "communities"),
-                     labels.fmt(r.n_ballots, "communities"), note])
+                     numbers.fmt(r.n_members, integer=True),
+                     numbers.fmt(r.n_ballots, integer=True), note])
     return rows
 
 
 def trend_chart(metrics: pd.DataFrame, metric: str, *, trends: pd.DataFrame | None = None,
-                name_prefix: str = "trend") -> Chart:
+                name_prefix: str = "trend",
+                known: dict[str, labels.MetricInfo] | None = None) -> Chart:
     """Figure of ``metric`` over periods for every body in ``metrics``.
 
     Parameters
@@ -80,9 +99,11 @@ def trend_chart(metrics: pd.DataFrame, metric: str, *, trends: pd.DataFrame | No
         ``ReportTables.trends``; its ``change_points`` become markers.
     name_prefix : str
         File stem prefix of the chart (``trend`` gives ``trend-<metric>``).
+    known : dict, optional
+        ``labels.catalogue(...)`` of the stored metric list (labels and count flags).
     """
-    info = labels.info(metric)
-    data = _series(metrics, metric, trends)
+    info = labels.info(metric, known)
+    data = _series(metrics, metric, trends, known)
     fig = go.Figure()
     bodies = list(dict.fromkeys(data["body"]))
     for i, body in enumerate(bodies):
@@ -105,7 +126,7 @@ def trend_chart(metrics: pd.DataFrame, metric: str, *, trends: pd.DataFrame | No
         fig.add_scatter(x=plain(g["x"]), y=plain(g["value"]), mode="lines+markers", name=esc(body),
                         legendgroup=group, line=dict(color=colour, width=2.4),
                         marker=dict(size=6, color=colour), connectgaps=False,
-                        customdata=_customdata(g, metric), hovertemplate=_hover(info.label))
+                        customdata=_customdata(g, info.integer), hovertemplate=_hover(info.label))
         cp = g[g["change_point"]]
         if len(cp):
             fig.add_scatter(x=plain(cp["x"]), y=plain(cp["value"]), mode="markers",
@@ -113,7 +134,7 @@ def trend_chart(metrics: pd.DataFrame, metric: str, *, trends: pd.DataFrame | No
                             showlegend=False,
                             marker=dict(symbol="diamond-open", size=15, color=colour,
                                         line=dict(width=2.4)),
-                            customdata=_customdata(cp, metric),
+                            customdata=_customdata(cp, info.integer),
                             hovertemplate="change point · " + _hover(info.label))
     _add_key(fig, data)
     dated = is_dated(period_table(metrics))
@@ -126,7 +147,7 @@ def trend_chart(metrics: pd.DataFrame, metric: str, *, trends: pd.DataFrame | No
         showlegend=True, height=400,
         legend=dict(traceorder="normal"))
     return Chart(name=f"{name_prefix}-{metric}", title=info.label, fig=fig,
-                 alt=_alt(data, info.label, metric), data=data,
+                 alt=_alt(data, info), data=data,
                  note=_empty_note(metrics, metric) if empty else "", empty=empty)
 
 
@@ -159,19 +180,20 @@ def _empty_note(metrics: pd.DataFrame, metric: str) -> str:
     return f"Not computed: {why}."
 
 
-def _alt(data: pd.DataFrame, label: str, metric: str) -> str:
+def _alt(data: pd.DataFrame, info: labels.MetricInfo) -> str:
+    label = info.label
     bodies = list(dict.fromkeys(data["body"]))
     have = data[data["value"].notna()]
     if have.empty:
         return f"{label}: not computed for any period."
     first, last = data["period"].iloc[0], data["period"].iloc[-1]
     if len(bodies) == 1:
-        who = f"{bodies[0]} over {data['period'].nunique()} periods"
+        who = f"{bodies[0]} over {numbers.plural(data['period'].nunique(), 'period')}"
     else:
         who = f"{len(bodies)} bodies ({', '.join(bodies)})"
     text = (f"Line chart of {label} for {who} from {first} to {last}; values range from "
-            f"{labels.fmt(have['value'].min(), metric)} to "
-            f"{labels.fmt(have['value'].max(), metric)}.")
+            f"{numbers.fmt_range(have['value'].min(), have['value'].max(), integer=info.integer)}"
+            ".")
     if data["low"].notna().any():
         text += " A shaded band shows each period's interval."
     cps = data.loc[data["change_point"], "period"].tolist()

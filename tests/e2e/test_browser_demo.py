@@ -1,6 +1,6 @@
 """The demo through the real CLI, then its briefing page in headless Chromium.
 
-The headline on the page must carry the demo's stored numbers: the expected first and last
+The verdict on the page must carry the demo's stored numbers: the expected first and last
 values are read from ``blocwatch export --table metrics``, never typed here.
 """
 
@@ -38,24 +38,25 @@ def _headline_parts(metrics: pd.DataFrame, body: str) -> list[str]:
                    & metrics.value.notna()].sort_values("period_start")
     first, last = rows.iloc[0], rows.iloc[-1]
 
-    def shown(r):
-        text = f"{r.value:.2f}"
-        if pd.notna(r.low) and pd.notna(r.high):
-            text += f" [{r.low:.2f}–{r.high:.2f}]"
-        return text
+    def shown(r, name=""):
+        return f"{r.value:.2f} ({name}{r.low:.2f} to {r.high:.2f})".replace("-", "\u2212")
 
-    return [f"{shown(first)} in {first.period}", f"{shown(last)} in {last.period}"]
+    return [f"{shown(first, '95 % interval ')} in {first.period}",
+            f"{shown(last)} in {last.period}"]
 
 
-def test_demo_headline_matches_the_stored_numbers(demo):
+def test_demo_verdict_matches_the_stored_numbers(demo):
     out, metrics = demo
     body = metrics.body.iloc[0]
     page = out / "report" / f"briefing-{slug(body)}.html"
     html = page.read_text()
-    headline = html.split("<p class='bw-headline'>", 1)[1].split("</p>", 1)[0]
-    assert headline.startswith("Group modularity ")
+    kind = html.split("data-verdict='", 1)[1].split("'", 1)[0]
+    verdict = html.split("<p class='bw-headline'", 1)[1].split(">", 1)[1].split("</p>", 1)[0]
+    # The demo is a 45-seat assembly with 60 ballots a year: enough data for a verdict.
+    assert kind in ("clear rise", "clear fall", "no clear change"), verdict
+    assert "group modularity went from" in verdict
     for part in _headline_parts(metrics, body):
-        assert part in headline
+        assert part in verdict
 
 
 @pytest.mark.browser
