@@ -29,6 +29,7 @@ from pathlib import Path
 from typing import Any
 
 from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.options import LAYOUTS
 from blocwatch.pipeline.store.database import DEFAULT_STORE
 
 CONFIG_NAME = "blocwatch.toml"
@@ -46,7 +47,6 @@ BODY_KEYS = {  # key -> (accepted TOML types, description for the message)
     "replace": ((bool,), "true or false"),
 }
 BODY_PATH_KEYS = ("members", "ballots")
-LAYOUTS = ("long", "wide")
 # Commands that take no flags from the file (init writes it; demo makes its own project).
 UNCONFIGURED = ("init", "demo")
 _CSS_COLOUR = re.compile(

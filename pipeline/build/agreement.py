@@ -14,41 +14,10 @@ over pairs.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
 from blocwatch.metrics.registry import ABSTAIN, NO, YES
-from blocwatch.pipeline.options import (  # noqa: F401  (re-exported)
-    DEFAULT_LOPSIDED,
-    DEFAULT_MIN_SHARE_CAST,
-    DEFAULT_MIN_SHARED,
-)
-
-
-@dataclass(frozen=True)
-class AgreementOptions:
-    """How agreement is counted. Defaults are the documented ones (README, "Defaults").
-
-    abstain_as_position : count abstain as a third position (default False: abstentions are
-        treated like absences).
-    min_shared : pairs that shared fewer ballots get no agreement value and no edge (default 5).
-    drop_unanimous : leave out ballots on which every counted vote was the same (default True;
-        each unanimous ballot adds 1/V to every pair and pulls modularity toward 0, METHODS §0).
-    lopsided : leave out ballots whose minority share is below this (default 0.0, off).
-    min_share_cast : members who cast fewer than this share of the period's counted ballots are
-        left out of the period and counted (default 0.25).
-    measure : ``match`` (default: share of shared ballots answered alike, or 1 − scaled
-        distance on scored ballots), ``kappa`` or ``kappa-quadratic`` (chance-corrected, graph
-        weight max(κ, 0)); see :mod:`blocwatch.pipeline.build.scored`.
-    """
-
-    abstain_as_position: bool = False
-    min_shared: int = DEFAULT_MIN_SHARED
-    drop_unanimous: bool = True
-    lopsided: float = DEFAULT_LOPSIDED
-    min_share_cast: float = DEFAULT_MIN_SHARE_CAST
-    measure: str = "match"
+from blocwatch.pipeline.options import AgreementOptions
 
 
 def position_arrays(votes: np.ndarray, *, abstain_as_position: bool = False

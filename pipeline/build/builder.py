@@ -11,11 +11,13 @@ import numpy as np
 import pandas as pd
 
 from blocwatch.metrics.trends import trend_summary
-from blocwatch.pipeline.build.compute import BuildOptions, PeriodResult, fingerprint
+from blocwatch.pipeline.build.compute import PeriodResult, fingerprint
+from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.build.executors import Executor, ExecutorSpec, PeriodJob, make_executor
 from blocwatch.pipeline.build.matrices import ballot_date_range, load_votes
-from blocwatch.pipeline.build.periods import Period, make_periods
+from blocwatch.pipeline.build.periods import make_periods
+from blocwatch.pipeline.options import Period
 from blocwatch.pipeline.store.runs import finish_run, start_run, tool_version
 from blocwatch.pipeline.store.database import Store
 

@@ -8,7 +8,7 @@ from __future__ import annotations
 import dataclasses
 import hashlib
 import json
-from dataclasses import asdict, dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
@@ -20,39 +20,12 @@ from blocwatch.metrics.nulls import label_permutation_null
 from blocwatch.metrics.reliability import alpha_by_group
 from blocwatch.metrics.resampling import ballot_weights, percentile_interval, stable_seed
 from blocwatch.pipeline.build import scored
-from blocwatch.pipeline.build.agreement import (
-    AgreementOptions,
-    agreement_counts,
-    agreement_matrix,
-    ballot_mask,
-)
-from blocwatch.pipeline.options import (  # noqa: F401
-    DEFAULT_BOOTSTRAP,
-    DEFAULT_EXPENSIVE_REPLICATES,
-    DEFAULT_PERMUTATIONS,
-    DEFAULT_SEED,
-)
-from blocwatch.pipeline.build.graphs import DEFAULT_RULE, build_graph, parse_rule
+from blocwatch.pipeline.build.agreement import agreement_counts, agreement_matrix, ballot_mask
+from blocwatch.pipeline.build.graphs import build_graph
 from blocwatch.pipeline.build.matrices import VoteMatrix
-from blocwatch.pipeline.build.periods import DEFAULT_PERIOD
+from blocwatch.pipeline.options import AgreementOptions, BuildOptions, parse_rule
 
 METRIC_COLUMNS = ["metric", "value", "low", "high", "null_mean", "null_z", "null_p", "note"]
-
-
-@dataclass(frozen=True)
-class BuildOptions:
-    """Everything that decides a period's numbers (it goes into the fingerprint)."""
-
-    period: str = DEFAULT_PERIOD
-    rule: str = DEFAULT_RULE
-    seed: int = DEFAULT_SEED
-    bootstrap: int = DEFAULT_BOOTSTRAP
-    permutations: int = DEFAULT_PERMUTATIONS
-    expensive_replicates: int = DEFAULT_EXPENSIVE_REPLICATES
-    agreement: AgreementOptions = field(default_factory=AgreementOptions)
-
-    def params(self) -> dict:
-        return asdict(self)
 
 
 @dataclass

@@ -1,6 +1,6 @@
 """Graph rules: from an agreement matrix to the weighted graph and the edge set metrics use.
 
-Rule specs (``--rule``):
+Rule specs (``--rule``, parsed by :func:`blocwatch.pipeline.options.parse_rule`):
 
 ``weighted`` (default)
     every pair with an agreement value is an edge weighted by its agreement (Waugh et al.
@@ -20,40 +20,7 @@ from dataclasses import dataclass
 import networkx as nx
 import numpy as np
 
-from blocwatch.pipeline.options import DEFAULT_RULE  # noqa: F401
-from blocwatch.pipeline.errors import UsageError
-
-
-@dataclass(frozen=True)
-class Rule:
-    kind: str  # "weighted" | "threshold" | "equal-likelihood"
-    level: float | None = None
-
-    @property
-    def spec(self) -> str:
-        return f"threshold:{self.level:g}" if self.kind == "threshold" else self.kind
-
-
-def parse_rule(spec: str) -> Rule:
-    """Parse a rule spec, e.g. ``"threshold:0.7"``.
-
-    >>> parse_rule("threshold:0.7")
-    Rule(kind='threshold', level=0.7)
-    """
-    kind, _, rest = spec.partition(":")
-    if kind in ("weighted", "equal-likelihood") and not rest:
-        return Rule(kind)
-    if kind == "threshold":
-        try:
-            level = float(rest)
-        except ValueError:
-            level = float("nan")
-        if not 0 < level <= 1:
-            raise UsageError(f"rule {spec!r}", f"threshold {rest!r} is not a number in (0, 1]",
-                             "write e.g. --rule threshold:0.7")
-        return Rule(kind, level)
-    raise UsageError(f"rule {spec!r}", "is not one of weighted, threshold:X, equal-likelihood",
-                     "e.g. --rule weighted")
+from blocwatch.pipeline.options import Rule
 
 
 def equal_likelihood_threshold(agreement: np.ndarray, labels: np.ndarray) -> float:

@@ -13,7 +13,7 @@ import numpy as np
 import pandas as pd
 
 from blocwatch.metrics.registry import ABSTAIN, MISSING, NO, YES
-from blocwatch.pipeline.build.periods import Period
+from blocwatch.pipeline.options import Period
 from blocwatch.pipeline.build.scored import attach_scales
 from blocwatch.pipeline.store.database import Store
 

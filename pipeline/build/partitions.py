@@ -32,7 +32,7 @@ import pandas as pd
 
 from blocwatch.pipeline.errors import BadInputError, UsageError
 from blocwatch.pipeline.build.matrices import CHOICE_CODES, VoteMatrix
-from blocwatch.pipeline.build.periods import Period
+from blocwatch.pipeline.options import Period
 
 VOTE_COLUMNS = ["member_id", "name", "group", "ballot_id", "item", "held_on", "choice"]
 _CHOICES = {code: choice for choice, code in CHOICE_CODES.items()}
@@ -174,7 +174,7 @@ def build_partitions(store, root: str | Path, results: str | Path, *, options=No
     """Compute every vote partition under ``root`` on ``executor`` and merge the results
     (written under ``results``) into ``store``; returns the build report."""
     from blocwatch.pipeline.build.builder import recorded_run, store_result, write_trends
-    from blocwatch.pipeline.build.compute import BuildOptions
+    from blocwatch.pipeline.options import BuildOptions
     from blocwatch.pipeline.store.runs import tool_version
 
     opts = options or BuildOptions()

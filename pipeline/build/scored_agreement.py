@@ -15,7 +15,8 @@ from blocwatch.metrics.kappa import pairwise_kappa
 from blocwatch.metrics.registry import ABSTAIN, NO, YES, PeriodInput
 from blocwatch.metrics.scales import distance_counts, match_counts, nonnegative, pairwise_pearson
 from blocwatch.pipeline.build.agreement import agreement_counts
-from blocwatch.pipeline.build.graphs import build_graph, parse_rule
+from blocwatch.pipeline.build.graphs import build_graph
+from blocwatch.pipeline.options import parse_rule
 from blocwatch.pipeline.scales import ALPHA_LEVEL
 
 if TYPE_CHECKING:  # scored imports this module; the type is for readers only

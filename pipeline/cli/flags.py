@@ -103,9 +103,8 @@ def _allowed(kind: click.ParamType, exc: click.BadParameter) -> str:
 
 def _check_spec(cfg: Config, where: str, key: str, value) -> None:
     """Period and rule specs are checked now, so the message names the config key."""
-    from blocwatch.pipeline.build.graphs import parse_rule
-    from blocwatch.pipeline.build.periods import parse_period_spec
     from blocwatch.pipeline.ops.schedule import parse_at
+    from blocwatch.pipeline.options import parse_period_spec, parse_rule
 
     check = {"period": parse_period_spec, "rule": parse_rule, "at": parse_at}.get(key)
     if check is None:

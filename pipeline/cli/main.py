@@ -15,6 +15,7 @@ from pathlib import Path
 import click
 
 from blocwatch.dashboards.errors import DashboardError
+from blocwatch.pipeline import options
 from blocwatch.pipeline.cli.usage import BlocwatchGroup
 from blocwatch.pipeline.errors import EXIT_FAILURE, EXIT_USAGE, BlocwatchError
 
@@ -102,29 +103,11 @@ def _progress(ctx: click.Context, label: str):
     return lambda step: click.echo(f"{label}: {step}", err=True)
 
 
-def build_options(period, rule, seed, bootstrap, permutations, expensive_replicates,
-                  abstain_as_position, min_shared, keep_unanimous, lopsided, min_share_cast,
-                  agreement="match"):
-    from blocwatch.pipeline.build.agreement import AgreementOptions
-    from blocwatch.pipeline.build.compute import BuildOptions
-    from blocwatch.pipeline.build.graphs import parse_rule
-    from blocwatch.pipeline.build.periods import parse_period_spec
-
-    parse_period_spec(period)
-    parse_rule(rule)
-    return BuildOptions(period=period, rule=rule, seed=seed, bootstrap=bootstrap,
-                        permutations=permutations, expensive_replicates=expensive_replicates,
-                        agreement=AgreementOptions(abstain_as_position=abstain_as_position,
-                                                   min_shared=min_shared,
-                                                   drop_unanimous=not keep_unanimous,
-                                                   lopsided=lopsided,
-                                                   min_share_cast=min_share_cast,
-                                                   measure=agreement))
-
-
 def build_flags(func):
     """The options that decide a period's numbers (shared by build, rebuild and demo)."""
     from blocwatch.pipeline.options import (
+        AGREEMENT_MEASURES,
+        DEFAULT_AGREEMENT,
         DEFAULT_BOOTSTRAP,
         DEFAULT_EXPENSIVE_REPLICATES,
         DEFAULT_LOPSIDED,
@@ -164,8 +147,8 @@ def build_flags(func):
                      default=DEFAULT_MIN_SHARE_CAST, show_default=True,
                      help="Members casting less than this share of a period's ballots are left "
                           "out of it."),
-        click.option("--agreement", type=click.Choice(["match", "kappa", "kappa-quadratic"]),
-                     default="match", show_default=True,
+        click.option("--agreement", type=click.Choice(AGREEMENT_MEASURES),
+                     default=DEFAULT_AGREEMENT, show_default=True,
                      help="Pair agreement: match (share alike; 1 - scaled distance on scores) "
                           "or chance-corrected kappa (graph weight max(kappa, 0); "
                           "kappa-quadratic: quadratic weights on ordinal ballots)."),
@@ -182,7 +165,7 @@ def build_flags(func):
 @click.option("--jobs", type=click.IntRange(min=1), default=1, show_default=True,
               help="Periods computed at once: 1 runs in this process, N > 1 uses N local "
                    "worker processes (with --executor dask: workers of the local cluster).")
-@click.option("--executor", type=click.Choice(["local", "dask"]), default="local",
+@click.option("--executor", type=click.Choice(options.EXECUTORS), default="local",
               show_default=True, help="Where periods are computed (dask needs blocwatch[dask]).")
 @click.option("--scheduler", default=None, metavar="ADDRESS",
               help="Dask scheduler, e.g. tcp://10.0.0.5:8786 (default with --executor dask: a "
@@ -199,7 +182,7 @@ def build(ctx, store_path, body, jobs, executor, scheduler, partitions, **flags)
     from blocwatch.pipeline.build.partitions import build_partitions
     from blocwatch.pipeline.ops.lock import locked_store
 
-    opts = build_options(**flags)
+    opts = options.build_options(**flags)
     where = ExecutorSpec(executor, jobs=jobs, scheduler=scheduler)
     with locked_store(resolve_store(store_path), "build") as store:
         if partitions:
@@ -214,9 +197,9 @@ def build(ctx, store_path, body, jobs, executor, scheduler, partitions, **flags)
 
 @cli.command()
 @store_option
-@click.option("--table", type=click.Choice(["metrics", "members", "groups", "trends"]),
+@click.option("--table", type=click.Choice(options.EXPORT_TABLES),
               required=True, help="Which results to export.")
-@click.option("--format", "fmt", type=click.Choice(["csv", "parquet", "json"]), default="csv",
+@click.option("--format", "fmt", type=click.Choice(options.EXPORT_FORMATS), default="csv",
               show_default=True, help="File format (json: one record per line).")
 @click.option("--body", default=None, help="Only this body.")
 @click.option("--out", type=click.Path(dir_okay=False), default=None,
@@ -283,7 +266,6 @@ def report(store_path, body, out, periods, images):
 def demo(ctx, out, seed, bootstrap, jobs):
     """Generate an invented assembly and review panel, load them, build and report."""
     from blocwatch.pipeline.build.builder import build as run_build
-    from blocwatch.pipeline.build.compute import BuildOptions
     from blocwatch.pipeline.build.executors import ExecutorSpec
     from blocwatch.pipeline.demo import assembly as demo_assembly
     from blocwatch.pipeline.demo import panel as demo_panel
@@ -297,7 +279,7 @@ def demo(ctx, out, seed, bootstrap, jobs):
         store_path.unlink()  # the demo always starts from a fresh store
     assembly = demo_assembly.generate(out_dir / "data", seed=seed)
     panel = demo_panel.generate(out_dir / "data", seed=seed + 4)
-    opts = BuildOptions() if bootstrap is None else BuildOptions(bootstrap=bootstrap)
+    opts = options.BuildOptions(**({} if bootstrap is None else {"bootstrap": bootstrap}))
     with Store(store_path) as store:
         ingest_files(store, [assembly.votes], body=demo_assembly.BODY, members=assembly.roster)
         ingest_files(store, [panel.votes], body=panel.body, members=panel.roster)
@@ -352,7 +334,7 @@ def rebuild(ctx, store_path, body, full, out, with_report, images, **flags):
     from blocwatch.pipeline.config import default_output
     from blocwatch.pipeline.ops.rebuild import rebuild as run_rebuild
 
-    opts = build_options(**flags)
+    opts = options.build_options(**flags)
     store = resolve_store(store_path)
     out_dir = Path(out) if out else default_output()
     write = (lambda folder: _write_report(store, body, folder, None, images)) \
@@ -382,7 +364,8 @@ def status(store_path, body, as_json, **flags):
     """
     from blocwatch.pipeline.ops.status import status as store_status
 
-    result = store_status(resolve_store(store_path), options=build_options(**flags), body=body)
+    opts = options.build_options(**flags)
+    result = store_status(resolve_store(store_path), options=opts, body=body)
     click.echo(result.to_json() if as_json else "\n".join(result.lines()))
 
 
@@ -393,7 +376,7 @@ def status(store_path, body, as_json, **flags):
 @click.option("--project", type=click.Path(file_okay=False), default=None,
               help="Project folder holding blocwatch.toml (default: the config's folder, else "
                    "the current one).")
-@click.option("--when", type=click.Choice(["hourly", "daily", "weekly", "monthly", "yearly"]),
+@click.option("--when", type=click.Choice(options.SCHEDULE_EVERY),
               default="daily", show_default=True, help="How often to rebuild.")
 @click.option("--at", default="03:17", show_default=True, help="Time of day, HH:MM.")
 @click.option("--name", default="blocwatch-rebuild", show_default=True,
@@ -430,7 +413,7 @@ def schedule(cron, systemd_dir, project, when, at, name, user):
               help="Body of every row (required unless the files have a body column).")
 @click.option("--members", type=click.Path(dir_okay=False), default=None,
               help="Roster file: member_id, name, group[, valid_from, valid_to].")
-@click.option("--layout", type=click.Choice(["long", "wide"]), default="long",
+@click.option("--layout", type=click.Choice(options.LAYOUTS), default="long",
               show_default=True,
               help="long: one row per member per ballot; wide: one row per member, one column "
                    "per ballot (CSV or .xlsx).")

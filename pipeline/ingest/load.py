@@ -45,11 +45,10 @@ from blocwatch.pipeline.ingest.validate import (
     check_dates,
     check_values,
 )
+from blocwatch.pipeline.options import LAYOUTS
 from blocwatch.pipeline.safety import check_name, show
 from blocwatch.pipeline.scales import parse_scale
 from blocwatch.pipeline.store.database import Store
-
-LAYOUTS = ("long", "wide")
 
 
 @dataclass

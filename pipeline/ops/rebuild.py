@@ -32,11 +32,12 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from blocwatch.pipeline.build.builder import BuildReport, body_periods, build
-from blocwatch.pipeline.build.compute import BuildOptions, fingerprint
+from blocwatch.pipeline.build.compute import fingerprint
 from blocwatch.pipeline.build.matrices import load_votes
 from blocwatch.pipeline.config import Config, active_config, body_ingest_options, body_sources
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.ops.lock import store_lock
+from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.store.database import Store
 from blocwatch.pipeline.store.runs import tool_version
 

@@ -8,6 +8,7 @@ import numpy as np
 import pandas as pd
 
 from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.options import EXPORT_FORMATS, EXPORT_TABLES
 from blocwatch.pipeline.safety import neutralise_frame
 from blocwatch.pipeline.store.database import Store
 
@@ -39,8 +40,6 @@ EXPORT_QUERIES = {
                change_points, note, run_id
         FROM trends WHERE (? IS NULL OR body = ?) ORDER BY body, metric""",
 }
-EXPORT_TABLES = tuple(EXPORT_QUERIES)
-EXPORT_FORMATS = ("csv", "parquet", "json")
 
 
 def export_frame(store: Store, table: str, *, body: str | None = None) -> pd.DataFrame:
@@ -78,7 +77,7 @@ def network_edges(store: Store, body: str, periods: list[str], *, options) -> pd
     """Agreement of every member pair with a value in the named periods (for network pictures)."""
     from blocwatch.pipeline.build.compute import filter_period, period_input
     from blocwatch.pipeline.build.matrices import load_votes
-    from blocwatch.pipeline.build.periods import Period
+    from blocwatch.pipeline.options import Period
 
     rows = store.rows("SELECT period, period_start, period_end FROM periods WHERE body = ?",
                       [body])

@@ -8,8 +8,8 @@ import json
 import pandas as pd
 
 from blocwatch.pipeline.build.builder import bodies as known_bodies
-from blocwatch.pipeline.build.compute import BuildOptions
 from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.report.export import export_frame, network_edges
 from blocwatch.pipeline.store.database import Store
 from blocwatch.pipeline.store.runs import tool_version
@@ -17,7 +17,7 @@ from blocwatch.pipeline.store.runs import tool_version
 
 def last_build_options(store: Store) -> tuple[BuildOptions, dict]:
     """The options of the newest finished build (to redraw its graphs) and its run row."""
-    from blocwatch.pipeline.build.agreement import AgreementOptions
+    from blocwatch.pipeline.options import AgreementOptions
 
     rows = store.df("SELECT * FROM runs WHERE status = 'ok' AND command IN ('build', 'rebuild', "
                     "'demo') ORDER BY run_id DESC LIMIT 1")

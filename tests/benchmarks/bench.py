@@ -122,15 +122,10 @@ def period_stages(size: synth.Size, bootstrap: int, permutations: int, repeats: 
     from threadpoolctl import threadpool_limits
 
     from blocwatch.metrics import registry
-    from blocwatch.pipeline.build.compute import (
-        BuildOptions,
-        compute_period,
-        filter_period,
-        period_input,
-    )
-    from blocwatch.pipeline.build.graphs import build_graph, parse_rule
+    from blocwatch.pipeline.build.compute import compute_period, filter_period, period_input
+    from blocwatch.pipeline.build.graphs import build_graph
     from blocwatch.pipeline.build.matrices import VoteMatrix
-    from blocwatch.pipeline.build.periods import Period
+    from blocwatch.pipeline.options import BuildOptions, Period, parse_rule
 
     # As in a build's worker: BLAS threads shared out between the workers.
     threadpool_limits(max(1, (os.cpu_count() or 1) // jobs))

@@ -71,7 +71,7 @@ def main(argv: list[str] | None = None) -> int:
 
 
 def _defaults() -> dict:
-    from blocwatch.pipeline.build.compute import DEFAULT_BOOTSTRAP, DEFAULT_PERMUTATIONS
+    from blocwatch.pipeline.options import DEFAULT_BOOTSTRAP, DEFAULT_PERMUTATIONS
 
     return {"bootstrap": DEFAULT_BOOTSTRAP, "permutations": DEFAULT_PERMUTATIONS}
 

@@ -14,10 +14,10 @@ import pandas as pd
 import pytest
 
 from blocwatch.pipeline.build.builder import build
-from blocwatch.pipeline.build.compute import BuildOptions
 from blocwatch.pipeline.build.executors import ExecutorSpec, make_executor
 from blocwatch.pipeline.demo.assembly import BODY, generate
 from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.store.database import Store
 
 OPTS = BuildOptions(bootstrap=6, permutations=6, expensive_replicates=2)

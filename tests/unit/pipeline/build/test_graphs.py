@@ -3,14 +3,9 @@
 import numpy as np
 import pytest
 
-from blocwatch.pipeline.build.graphs import (
-    Rule,
-    build_graph,
-    equal_likelihood_threshold,
-    parse_rule,
-    to_networkx,
-)
+from blocwatch.pipeline.build.graphs import build_graph, equal_likelihood_threshold, to_networkx
 from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.options import Rule, parse_rule
 
 
 def _planted(n_per=40, seed=0):

@@ -8,9 +8,10 @@ import pytest
 from sklearn.metrics import cohen_kappa_score
 
 from blocwatch.metrics.registry import ABSTAIN, MISSING, NO, YES
-from blocwatch.pipeline.build.agreement import AgreementOptions, agreement_counts, agreement_matrix
+from blocwatch.pipeline.build.agreement import agreement_counts, agreement_matrix
+from blocwatch.pipeline.options import AgreementOptions
 from blocwatch.pipeline.build.matrices import VoteMatrix
-from blocwatch.pipeline.build.periods import Period
+from blocwatch.pipeline.options import Period
 from blocwatch.pipeline.build.scored import (
     ScaleMatrix,
     filter_scored,
@@ -182,7 +183,8 @@ def test_digest_follows_scores():
 def test_yes_no_period_input_keeps_the_yes_no_path():
     """compute.period_input without scales and with --agreement match is the yes/no path:
     the float32 products, no scores (so the reliability family is left out)."""
-    from blocwatch.pipeline.build.compute import BuildOptions, period_input
+    from blocwatch.pipeline.build.compute import period_input
+    from blocwatch.pipeline.options import BuildOptions
 
     opts = BuildOptions(agreement=AgreementOptions(min_shared=1))
     inp = period_input(TOY, np.array([0, 0, 0, 1, 1, 1]), opts, 1)
