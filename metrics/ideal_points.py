@@ -43,11 +43,6 @@ class IdealPoints:
     converged: bool
 
 
-def _mills(t: np.ndarray) -> np.ndarray:
-    """φ(t)/Φ(t), stable for large negative t via log Φ."""
-    return np.exp(-0.5 * t * t - _LOG_SQRT_2PI - special.log_ndtr(t))
-
-
 def _spectral_start(sign: np.ndarray, cast: np.ndarray, rng) -> np.ndarray:
     """Leading principal axis of the column-centred ±1 vote coding (0 where not cast)."""
     with np.errstate(invalid="ignore", divide="ignore"):

@@ -152,7 +152,8 @@ def _loyalty(inp: PeriodInput) -> dict[str, np.ndarray]:
 @register_member("ideal", ("ideal_point",))
 def _ideal(inp: PeriodInput) -> dict[str, np.ndarray]:
     """Standardised 1-D probit ideal point (positive = votes yes more often)."""
-    return {"ideal_point": np.array(period_ideal_points(_need_votes(inp)).x)}
+    _need_votes(inp)
+    return {"ideal_point": np.array(period_ideal_points(inp).x)}
 
 
 @register_member("mds", ("mds_1", "mds_2"))

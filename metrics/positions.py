@@ -8,9 +8,8 @@ here. Registers the ``positions`` family.
 
 from __future__ import annotations
 
-import hashlib
+import dataclasses
 import math
-from collections import OrderedDict
 
 import numpy as np
 from scipy import stats
@@ -21,7 +20,7 @@ from blocwatch.metrics.registry import MetricValue, PeriodInput, register
 from blocwatch.metrics.validation import normalise_labels
 
 __all__ = ["main_pair", "median_distance", "overlap_count", "bimodality_coefficient",
-           "period_ideal_points", "MIN_GROUP_SIZE"]
+           "fit_ideal_points", "MIN_GROUP_SIZE"]
 
 MIN_GROUP_SIZE = 3  # a median of fewer positioned members is not worth a number
 
@@ -154,32 +153,40 @@ def bimodality_coefficient(x) -> float:
     return (g1 * g1 + 1) / (g2 + 3 * (n - 1) ** 2 / ((n - 2) * (n - 3)))
 
 
-_FITS: OrderedDict[str, IdealPoints] = OrderedDict()
-
-
-def period_ideal_points(votes) -> IdealPoints:
-    """:func:`ideal_points_em` with default settings, cached by the votes' content.
-
-    The period family and the member table both need the same fit; the cache (the last four
-    vote matrices, keyed by a SHA-256 of shape and bytes) saves the second run. The arrays of
-    a cached fit are read-only.
+def fit_ideal_points(votes) -> IdealPoints:
+    """:func:`ideal_points_em` with default settings, its arrays read-only so it can be shared.
 
     >>> v = np.array([[1, 1, 2, 1], [1, 1, 2, 2], [1, 2, 1, 2], [2, 2, 1, 2], [2, 2, 1, 1]])
-    >>> period_ideal_points(v) is period_ideal_points(v.copy())
-    True
+    >>> fit_ideal_points(v).x.flags.writeable
+    False
     """
-    votes = np.ascontiguousarray(votes, dtype=np.int8)
-    key = hashlib.sha256(repr(votes.shape).encode() + votes.tobytes()).hexdigest()
-    if key in _FITS:
-        _FITS.move_to_end(key)
-        return _FITS[key]
-    fit = ideal_points_em(votes)
+    fit = ideal_points_em(np.ascontiguousarray(votes, dtype=np.int8))
     for arr in (fit.x, fit.alpha, fit.beta):
         arr.flags.writeable = False
-    _FITS[key] = fit
-    while len(_FITS) > 4:
-        _FITS.popitem(last=False)
     return fit
+
+
+def with_ideal_points(inp: PeriodInput) -> PeriodInput:
+    """``inp`` carrying one fit of its votes, for the period family, the member table and the
+    label-permutation null (labels change, votes do not) to share.
+
+    Unchanged where there are no votes or no fit is possible; the family then says why.
+    """
+    if inp.votes is None or inp.n == 0 or inp.ideal_points is not None:
+        return inp
+    try:
+        return dataclasses.replace(inp, ideal_points=fit_ideal_points(inp.votes))
+    except ValueError:
+        return inp
+
+
+def period_ideal_points(inp: PeriodInput) -> IdealPoints:
+    """The fit ``inp`` carries (see :func:`with_ideal_points`), else a fresh fit of its votes."""
+    if inp.ideal_points is not None:
+        return inp.ideal_points
+    if inp.votes is None:
+        raise ValueError("ideal points: expected a vote matrix, received none")
+    return fit_ideal_points(inp.votes)
 
 
 def _value(compute) -> MetricValue:
@@ -208,7 +215,7 @@ def _positions_family(inp: PeriodInput) -> dict[str, MetricValue]:
         return {m: MetricValue.missing("needs the vote matrix, which was not available")
                 for m in _IDEAL_METRICS}
     try:
-        x = period_ideal_points(inp.votes).x
+        x = period_ideal_points(inp).x
     except ValueError as exc:
         return {m: MetricValue.missing(str(exc)) for m in _IDEAL_METRICS}
     return {"ideal_median_gap": _value(lambda: median_distance(x, codes)),

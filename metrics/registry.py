@@ -42,6 +42,9 @@ class PeriodInput:
     scores : (n, b) float answers on the period's scored (non-yes/no) ballots, NaN where none
         was given, or None for yes/no bodies (see :mod:`blocwatch.metrics.reliability`).
     score_level : "nominal", "ordinal" or "interval": how ``scores`` are measured, or None.
+    ideal_points : an :class:`~blocwatch.metrics.ideal_points.IdealPoints` fit of exactly
+        ``votes``, made once by the caller (:func:`blocwatch.metrics.positions.with_ideal_points`)
+        so the families and member table that need it share one fit; None: fitted on demand.
     """
 
     agreement: np.ndarray
@@ -53,6 +56,7 @@ class PeriodInput:
     seed: int = 0
     scores: np.ndarray | None = None
     score_level: str | None = None
+    ideal_points: object | None = None
 
     @property
     def n(self) -> int:

@@ -17,6 +17,7 @@ from blocwatch.metrics import PeriodInput, compute_all, registry
 from blocwatch.metrics.cohesion import group_agreement_matrix
 from blocwatch.metrics.member_registry import compute_members
 from blocwatch.metrics.nulls import label_permutation_null
+from blocwatch.metrics.positions import with_ideal_points
 from blocwatch.metrics.reliability import alpha_by_group
 from blocwatch.metrics.resampling import ballot_weights, percentile_interval, stable_seed
 from blocwatch.pipeline.build import scored
@@ -131,10 +132,10 @@ def compute_period(vm: VoteMatrix, opts: BuildOptions, version: str) -> PeriodRe
     fp = fingerprint(vm, opts, version)
     vm = filter_period(vm, opts.agreement)
     labels = vm.labels
-    inp = period_input(vm.votes, labels, opts, seed, scales=vm.scales)
+    # One ideal-point fit, passed along: the period family, the member table and the
+    # permutation null (same votes, other labels) all read it.
+    inp = with_ideal_points(period_input(vm.votes, labels, opts, seed, scales=vm.scales))
     values = compute_all(inp)
-    # Member scores right after the point estimates: they reuse the period's cached fits
-    # (ideal points), which the bootstrap's replicate fits would push out of the cache.
     members = _member_rows(vm, inp)
     names = list(values)
     intervals = _bootstrap(vm, labels, opts, seed, names)

@@ -1,5 +1,6 @@
 """Polarisation on positions: median gap, overlap, bimodality and the positions family."""
 
+import dataclasses
 import math
 
 import numpy as np
@@ -120,9 +121,24 @@ def test_family_notes_for_small_groups_missing_votes_and_empty():
     assert all(not v.ok for v in empty.values())
 
 
-def test_period_fit_is_cached_and_read_only():
+def test_one_fit_is_passed_along_read_only_and_used_by_family_and_member_table():
+    """The fit travels on the input (no module cache): what the family and the member table
+    report is computed from the fit the input carries, whatever order they are called in."""
+    from blocwatch.metrics.member_registry import compute_members
+
     votes, _, _ = spatial_votes(n=20, b=30, seed=1)
-    first = positions.period_ideal_points(votes)
-    assert positions.period_ideal_points(votes.copy()) is first
+    labels = np.repeat([0, 1], 10)
+    inp = positions.with_ideal_points(_inp(votes, labels))
+    fit = inp.ideal_points
+    assert positions.with_ideal_points(inp) is inp  # never fitted twice
     with pytest.raises(ValueError):
-        first.x[0] = 0.0
+        fit.x[0] = 0.0
+    # Hand the family a different (reversed, then shifted) fit: its numbers must follow it.
+    other = dataclasses.replace(fit, x=np.ascontiguousarray(fit.x[::-1]) + 1.0)
+    swapped = dataclasses.replace(inp, ideal_points=other)
+    got = positions._positions_family(swapped)["ideal_median_gap"].value
+    assert got == pytest.approx(positions.median_distance(other.x, labels))
+    assert np.array_equal(compute_members(swapped)["ideal_point"], other.x)
+    # Without a carried fit the result equals the fit made here (same default settings).
+    fresh = positions._positions_family(_inp(votes, labels))["ideal_median_gap"].value
+    assert fresh == pytest.approx(positions.median_distance(fit.x, labels))
