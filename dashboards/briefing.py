@@ -5,8 +5,9 @@ from __future__ import annotations
 import pandas as pd
 
 from blocwatch.dashboards import labels, numbers, text
+from blocwatch.dashboards.bridges import left_out_note, top_bridges
 from blocwatch.dashboards.chart import Chart, slug
-from blocwatch.dashboards.groups import bridge_label, heatmap_chart, top_bridges
+from blocwatch.dashboards.groups import heatmap_chart
 from blocwatch.dashboards.headline import (
     SUMMARY_COLUMNS,
     headline_metrics,
@@ -151,22 +152,53 @@ def _bridges(t: ReportTables, body: str, n: int, bridge: str | None,
              chosen: list[str]) -> str:
     order = period_table(t.metrics)["period"].tolist()
     order += sorted(set(t.members["period"].dropna()) - set(order))
-    table, used = top_bridges(t.members, body, order, n=n, metric=bridge)
-    head = "<section id='bridges'><h2>Members who bridge groups</h2>"
-    if table.empty:
+    table, used, left = top_bridges(t.members, body, order, n=n, metric=bridge)
+    head = ("<section id='bridges'><h2>Members who bridge groups</h2>"
+            f"<p class='bw-caution'>{esc(BRIDGE_CAUTION)}</p>")
+    if used is None:
         return (head + "<p class='bw-muted'>Not computed: no member scores in the results.</p>"
                 "</section>")
-    label = bridge_label(used)
+    label = labels.member_label(used)
+    note = left_out_note(left, len(order))
+    note_html = f"<p class='bw-note'>{esc(note)}</p>" if note else ""
+    if table.empty:
+        return (head + f"<p>Nobody stands out: no member has a {esc(label.lower())} above "
+                "zero that the rules below allow to be listed.</p>" + note_html
+                + _bridge_terms(used) + "</section>")
     cols = {"period": "Period", "rank": "Rank", "name": "Member", "group": "Group",
             "score": label}
     short = table[table["period"].isin(chosen)] if chosen else table
-    intro = (f"<p>The {n} members with the highest {esc(label.lower())} in the periods pictured "
-             "above. This describes recorded votes; it is not a judgement of anyone (see "
-             "the notes below).</p>")
+    intro = (f"<p>Up to {n} members per period with the highest {esc(label.lower())}, in the "
+             "periods pictured above (more where scores tie).</p>")
     every = (f"<details><summary>Every period ({table['period'].nunique()})</summary>"
-             f"{numbers_table(table, cols, metric=used or '')}</details>")
-    return (head + intro + numbers_table(short, cols, metric=used or "") + every
-            + "</section>")
+             f"{numbers_table(table, cols, metric=used)}</details>")
+    return (head + intro + numbers_table(short, cols, metric=used) + every + note_html
+            + _bridge_terms(used) + "</section>")
+
+
+BRIDGE_CAUTION = (
+    "These scores describe recorded votes, not people: a member who often votes with another "
+    "group may be a broker, a moderate, or simply absent on the divisive ballots. Do not use "
+    "this list to single out, rank or target anyone.")
+
+
+def _bridge_terms(metric: str) -> str:
+    """Each column of the bridges table, defined on the page."""
+    what = labels.MEMBER_WHAT.get(metric, "the member score stored with the results")
+    terms = [
+        ("Rank", "1 is the highest score in the period; members whose scores print the same "
+                 "share a rank, and all members tied at the last rank shown are shown."),
+        ("Member", "the name in the roster; the member id is added where two members share "
+                   "a name."),
+        ("Group", "the member's group in that period."),
+        (labels.member_label(metric), f"{what[:1].upper()}{what[1:]}."),
+        ("Who is never listed", "members alone in their group (their ties cross groups by "
+                                "construction), members with a score of zero, and members "
+                                "whose score is not above what shuffled groups give where "
+                                "the results hold that test."),
+    ]
+    items = "".join(f"<dt>{esc(k)}</dt><dd>{esc(v)}</dd>" for k, v in terms)
+    return f"<dl class='bw-terms'>{items}</dl>"
 
 
 def _span(m: pd.DataFrame) -> str:

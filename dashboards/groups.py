@@ -1,4 +1,4 @@
-"""Group-versus-group agreement heat maps and the top-bridges table."""
+"""Group-versus-group agreement heat maps."""
 
 from __future__ import annotations
 
@@ -6,9 +6,8 @@ import numpy as np
 import pandas as pd
 from plotly.subplots import make_subplots
 
-from blocwatch.dashboards import labels, palette
+from blocwatch.dashboards import palette
 from blocwatch.dashboards.chart import Chart, plain
-from blocwatch.dashboards.network import bridge_metric, member_scores
 from blocwatch.dashboards.safe import esc
 
 
@@ -70,29 +69,3 @@ def heatmap_chart(group_agreement: pd.DataFrame, body: str, periods: list[str]) 
     data = ga[["period", "group_a", "group_b", "agreement", "n_pairs"]].reset_index(drop=True)
     return Chart("groups-heatmap", "Agreement between groups", fig, alt, data)
 
-
-def top_bridges(members: pd.DataFrame, body: str, periods: list[str], *, n: int = 3,
-                metric: str | None = None) -> tuple[pd.DataFrame, str | None]:
-    """The ``n`` members with the highest bridge score in each period (a sorted listing).
-
-    Returns the table (``period, rank, name, group, score``) and the score's metric name.
-    """
-    frames, used = [], metric
-    for period in periods:
-        scores = member_scores(members, body, period)
-        m = bridge_metric(scores, metric)
-        if m is None:
-            continue
-        used = used or m
-        top = scores[scores[m].notna()].sort_values([m, "name"], ascending=[False, True]).head(n)
-        frames.append(pd.DataFrame({
-            "period": period, "rank": range(1, len(top) + 1), "name": top["name"].fillna(
-                top["member_id"]).to_numpy(), "group": top["group_name"].to_numpy(),
-            "score": top[m].to_numpy()}))
-    if not frames:
-        return pd.DataFrame(columns=["period", "rank", "name", "group", "score"]), None
-    return pd.concat(frames, ignore_index=True), used
-
-
-def bridge_label(metric: str | None) -> str:
-    return labels.member_label(metric) if metric else "bridge score"

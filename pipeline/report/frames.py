@@ -50,6 +50,19 @@ def network_periods(metrics, trends, body: str) -> list[str]:
     return list(dict.fromkeys(p for p in chosen if p in ordered))
 
 
+def measure_list() -> pd.DataFrame:
+    """The registered metrics with their methods reference, for the page's Methods section."""
+    import blocwatch.metrics  # noqa: F401  (registers every family)
+    from blocwatch.metrics.registry import metric_info, metric_names
+
+    rows = []
+    for name in metric_names():
+        info = metric_info(name)
+        rows.append({"metric": name, "label": info.label, "description": info.description,
+                     "formula": info.formula, "reference": info.reference})
+    return pd.DataFrame(rows)
+
+
 def report_frames(store: Store, *, body: str | None = None,
                   periods: list[str] | None = None) -> dict:
     """Every frame and the provenance a report needs, as keyword arguments for ReportTables."""
@@ -68,4 +81,4 @@ def report_frames(store: Store, *, body: str | None = None,
                   "parameters": opts.params()}
     return {"metrics": metrics, "members": members, "group_agreement": groups,
             "trends": trends, "edges": pd.concat(edges, ignore_index=True),
-            "provenance": provenance}
+            "measures": measure_list(), "provenance": provenance}

@@ -101,10 +101,11 @@ def test_counts_are_whole_numbers_without_a_flat_interval():
     assert "[2" not in text and "2.00" not in text
 
 
-def test_plural_labels_read_as_one_noun():
-    m = _frame([0.3, 0.4], metric="group_line_share")
-    assert summary(m, HARBOUR, "group_line_share").startswith(
-        "Share of group-line ballots rose from 0.30")
+def test_no_verb_that_disagrees_with_a_plural_label():
+    # "Group-line ballots was" came from "<label> was": sentences use a colon instead.
+    for values in ([0.3, 0.3], [0.3], [np.nan, np.nan]):
+        text = summary(_frame(values, metric="group_line_share"), HARBOUR, "group_line_share")
+        assert text.startswith("Group-line ballots: ") and " was " not in text
 
 
 def test_estimate_outside_its_interval_is_not_printed_as_one():
