@@ -11,13 +11,10 @@ import numpy as np
 import pandas as pd
 
 from blocwatch.metrics.trends import trend_summary
-from blocwatch.pipeline.build.compute import PeriodResult, fingerprint
+from blocwatch.pipeline.build.compute import PeriodResult
 from blocwatch.pipeline.options import BuildOptions
-from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.build.executors import Executor, ExecutorSpec, PeriodJob, make_executor
-from blocwatch.pipeline.build.matrices import ballot_date_range, load_votes
-from blocwatch.pipeline.build.periods import make_periods
-from blocwatch.pipeline.options import Period
+from blocwatch.pipeline.build.planner import BodyPlan, bodies, plan_body
 from blocwatch.pipeline.store.runs import finish_run, start_run, tool_version
 from blocwatch.pipeline.store.database import Store
 
@@ -59,25 +56,6 @@ def store_result(store: Store, report: BuildReport, res: PeriodResult, seconds: 
     report.seconds[(res.body, res.period_name)] = seconds
     if progress:
         progress(f"{res.body} {res.period_name}")
-
-
-def bodies(store: Store, body: str | None = None) -> list[str]:
-    """The named body (checked) or every body in the store."""
-    known = [r[0] for r in store.rows("SELECT body FROM bodies ORDER BY body")]
-    if body is None:
-        if not known:
-            raise UsageError("build", "the store holds no ballots",
-                             "load some with 'blocwatch ingest' first")
-        return known
-    if body not in known:
-        raise UsageError(f"body {body!r}", "is not in the store",
-                         f"use one of: {', '.join(known) or '(none loaded)'}")
-    return [body]
-
-
-def body_periods(store: Store, body: str, spec: str) -> list[Period]:
-    span = ballot_date_range(store, body)
-    return [] if span is None else make_periods(spec, span[0], span[1])
 
 
 def write_period(store: Store, run_id: int, res: PeriodResult) -> None:
@@ -135,16 +113,17 @@ def write_trends(store: Store, run_id: int, body: str) -> None:
         store.insert_frame("trends", pd.DataFrame(rows))
 
 
-def _period_matrices(store: Store, body: str, periods: list[Period], opts: BuildOptions,
-                     version: str, stored: dict | None, report: BuildReport) -> Iterator:
-    """Each period's vote matrix, read when asked for; empty and (with ``stored``) unchanged
-    periods are passed over, the unchanged ones noted in ``report.skipped``."""
-    for period in periods:
-        vm = load_votes(store, body, period)
-        if vm.votes.size == 0:
-            continue
-        if stored is not None and stored.get(period.name) == fingerprint(vm, opts, version):
-            report.skipped.append((body, period.name))
+def _to_compute(store: Store, plan: BodyPlan, opts: BuildOptions, version: str,
+                only_changed: bool, only: set[str] | None, report: BuildReport) -> Iterator:
+    """The vote matrices to compute, read when the executor asks for them; with
+    ``only_changed`` the current ones are passed over and noted in ``report.skipped``, and
+    periods outside ``only`` are kept as stored (noted as skipped when they have results)."""
+    if only is not None:
+        report.skipped += [(plan.body, p.name) for p in plan.periods
+                           if p.name not in only and p.name in plan.stored]
+    for vm in plan.matrices(store, only):
+        if only_changed and plan.state(vm, opts, version) is None:
+            report.skipped.append((plan.body, vm.period.name))
             continue
         yield vm
 
@@ -169,17 +148,13 @@ def build(store: Store, *, body: str | None = None, options: BuildOptions | None
     with recorded_run(store, command, {"body": body, **opts.params()}, executor,
                       inputs) as (report, pool):
         for b in targets:
-            periods = body_periods(store, b, opts.period)
-            stored = dict(store.rows("SELECT period, fingerprint FROM periods WHERE body = ?",
-                                     [b]))
+            plan = plan_body(store, b, opts.period)
+            names = None if only is None else {p for bb, p in only if bb == b}
             # Matrices are read one at a time as the executor asks for them (streamed);
             # results come back in period order and are written here, the single writer.
-            todo = periods if only is None else [p for p in periods if (b, p.name) in only]
-            report.skipped += [(b, p.name) for p in periods if p not in todo and p.name in stored]
-            jobs = _period_matrices(store, b, todo, opts, version,
-                                    stored if only_changed else None, report)
+            jobs = _to_compute(store, plan, opts, version, only_changed, names, report)
             for res, seconds in pool.map(PeriodJob(opts, version), jobs):
                 store_result(store, report, res, seconds, progress)
-            drop_stale_periods(store, b, [p.name for p in periods])
+            drop_stale_periods(store, b, [p.name for p in plan.periods])
             write_trends(store, report.run_id, b)
     return report

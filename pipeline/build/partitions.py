@@ -71,16 +71,13 @@ def write_vote_partitions(store, root: str | Path, *, period_spec: str = "year",
                           body: str | None = None) -> list[Path]:
     """Write each body × period of ``store`` as a vote partition under ``root`` (plus
     ``period.json`` with the period's bounds and the members left out for want of a group)."""
-    from blocwatch.pipeline.build.builder import bodies, body_periods
-    from blocwatch.pipeline.build.matrices import load_votes
+    from blocwatch.pipeline.build.planner import bodies, plan_body
 
     written = []
     for b in bodies(store, body):
         dates = dict(store.rows("SELECT ballot_id, held_on FROM ballots WHERE body = ?", [b]))
-        for period in body_periods(store, b, period_spec):
-            vm = load_votes(store, b, period)
-            if vm.votes.size == 0:
-                continue
+        for vm in plan_body(store, b, period_spec).matrices(store):
+            period = vm.period
             folder = partition_dir(root, b, period.name)
             folder.mkdir(parents=True, exist_ok=True)
             frame = matrix_frame(vm, [dates[x] for x in vm.ballot_ids])
@@ -169,24 +166,40 @@ class PartitionJob:
         return str(out), time.perf_counter() - t0
 
 
-def build_partitions(store, root: str | Path, results: str | Path, *, options=None,
-                     executor=None, progress=None):
-    """Compute every vote partition under ``root`` on ``executor`` and merge the results
-    (written under ``results``) into ``store``; returns the build report."""
-    from blocwatch.pipeline.build.builder import recorded_run, store_result, write_trends
+def build_partitions(store, root: str | Path, results: str | Path, *, body: str | None = None,
+                     options=None, executor=None, progress=None):
+    """Compute every vote partition under ``root`` (only ``body``'s, when given) on
+    ``executor`` and merge the results (written under ``results``) into ``store``; returns the
+    build report.
+
+    As in a normal build, the partitions are a body's periods: stored results of a period
+    that has no partition are dropped, and the body's trends are rewritten.
+    """
+    from blocwatch.pipeline.build.builder import (
+        drop_stale_periods,
+        recorded_run,
+        store_result,
+        write_trends,
+    )
     from blocwatch.pipeline.options import BuildOptions
     from blocwatch.pipeline.store.runs import tool_version
 
     opts = options or BuildOptions()
-    tasks = [(b, p, str(f)) for b, p, f in list_partitions(root)]
+    found = list_partitions(root)
+    tasks = [(b, p, str(f)) for b, p, f in found if body is None or b == body]
     if not tasks:
-        raise UsageError(f"partition folder {root}", "holds no body=…/period=…/votes.parquet",
+        what = "holds no body=…/period=…/votes.parquet" if not found else \
+            f"holds no partition of body {body!r}"
+        there = sorted({b for b, _, _ in found})
+        raise UsageError(f"partition folder {root}", what,
+                         f"use one of: {', '.join(there)}" if there else
                          "write the partitions first (see blocwatch.pipeline.build.partitions)")
-    with recorded_run(store, "build", {"partitions": str(root), **opts.params()},
+    with recorded_run(store, "build", {"partitions": str(root), "body": body, **opts.params()},
                       executor) as (report, pool):
         job = PartitionJob(opts, tool_version(), str(results))
         for folder, seconds in pool.map(job, tasks):
             store_result(store, report, read_result(folder), seconds, progress)
-        for body in sorted({b for b, _, _ in tasks}):
-            write_trends(store, report.run_id, body)
+        for b in sorted({b for b, _, _ in tasks}):
+            drop_stale_periods(store, b, [p for bb, p, _ in tasks if bb == b])
+            write_trends(store, report.run_id, b)
     return report

@@ -187,7 +187,7 @@ def build(ctx, store_path, body, jobs, executor, scheduler, partitions, **flags)
     with locked_store(resolve_store(store_path), "build") as store:
         if partitions:
             report = build_partitions(store, partitions, Path(partitions) / "_results",
-                                      options=opts, executor=where,
+                                      body=body, options=opts, executor=where,
                                       progress=_progress(ctx, "build"))
         else:
             report = run_build(store, body=body, options=opts,

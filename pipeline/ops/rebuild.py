@@ -5,10 +5,8 @@ A rebuild, under the store's lock (:mod:`blocwatch.pipeline.ops.lock`):
 1. hashes every file the config's ``sources`` globs match (sha256) and loads the ones whose
    content the store has not seen for that body — a file seen before under the same path with
    other content is *changed* and replaces its votes;
-2. works out the stale body × period pairs: a period whose fingerprint (its votes, the groups
-   in force, the parameters, the tool version) differs from the stored one, a period not built
-   yet, a stored period the period spec no longer produces, and a body whose trends are older
-   than its periods (a run killed between its last period and its trends);
+2. asks the period planner (:mod:`blocwatch.pipeline.build.planner`) for the stale body ×
+   period pairs: new, changed (fingerprint differs), removed, and trends older than periods;
 3. if anything is stale, runs :func:`~blocwatch.pipeline.build.builder.build` with ``only_changed``
    (every period is swapped in within one transaction);
 4. if the output folder does not show the store's newest results, writes the outputs into a
@@ -31,15 +29,13 @@ from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from blocwatch.pipeline.build.builder import BuildReport, body_periods, build
-from blocwatch.pipeline.build.compute import fingerprint
-from blocwatch.pipeline.build.matrices import load_votes
+from blocwatch.pipeline.build.builder import BuildReport, build
+from blocwatch.pipeline.build.planner import Stale, stale_periods
 from blocwatch.pipeline.config import Config, active_config, body_ingest_options, body_sources
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.ops.lock import store_lock
 from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.store.database import Store
-from blocwatch.pipeline.store.runs import tool_version
 
 _CHUNK = 1 << 20
 MARKER = ".blocwatch-outputs.json"  # in the output folder: the run whose results it shows
@@ -60,13 +56,6 @@ class SourceFile:
     sha256: str
     state: str  # "new", "changed" (same path, other content) or "loaded"
     kind: str = "votes"  # or "members" (roster) or "ballots"
-
-
-@dataclass(frozen=True)
-class Stale:
-    body: str
-    period: str | None  # None: the body's trends
-    reason: str  # "new", "changed", "removed", "trends"
 
 
 @dataclass
@@ -138,39 +127,6 @@ def _seen(path: Path, cfg: Config, seen_paths: set[str]) -> bool:
     except ValueError:
         return False
     return any(p.replace("\\", "/").endswith(tail) for p in seen_paths)
-
-
-def _trends_stale(store: Store, body: str) -> bool:
-    """Trends are written after a run's last period, so they must be as new as every period."""
-    row = store.rows(
-        """SELECT (SELECT max(run_id) FROM periods WHERE body = ?),
-                  (SELECT min(run_id) FROM trends WHERE body = ?)""", [body, body])[0]
-    newest_period, oldest_trend = row
-    return newest_period is not None and (oldest_trend is None or oldest_trend < newest_period)
-
-
-def stale_periods(store: Store, options: BuildOptions, body: str | None = None) -> list[Stale]:
-    """The body × period pairs a rebuild would recompute (or remove), without writing."""
-    version = tool_version()
-    known = [r[0] for r in store.rows("SELECT body FROM bodies ORDER BY body")]
-    targets = [b for b in known if body is None or b == body]
-    out = []
-    for b in targets:
-        stored = dict(store.rows("SELECT period, fingerprint FROM periods WHERE body = ?", [b]))
-        periods = body_periods(store, b, options.period)
-        for period in periods:
-            vm = load_votes(store, b, period)
-            if vm.votes.size == 0:
-                continue
-            if period.name not in stored:
-                out.append(Stale(b, period.name, "new"))
-            elif stored[period.name] != fingerprint(vm, options, version):
-                out.append(Stale(b, period.name, "changed"))
-        names = {p.name for p in periods}
-        out += [Stale(b, p, "removed") for p in sorted(stored) if p not in names]
-        if not any(s.body == b for s in out) and _trends_stale(store, b):
-            out.append(Stale(b, None, "trends"))
-    return out
 
 
 def _ingest(store: Store, cfg: Config, pending: list[SourceFile]) -> list[SourceFile]:

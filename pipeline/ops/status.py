@@ -13,9 +13,10 @@ import json
 from dataclasses import asdict, dataclass, field
 from pathlib import Path
 
+from blocwatch.pipeline.build.planner import stale_periods
 from blocwatch.pipeline.config import Config, active_config
 from blocwatch.pipeline.ops.lock import describe, lock_holder
-from blocwatch.pipeline.ops.rebuild import scan_sources, stale_periods
+from blocwatch.pipeline.ops.rebuild import scan_sources
 from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.store.database import Store
 

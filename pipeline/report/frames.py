@@ -7,7 +7,7 @@ import json
 
 import pandas as pd
 
-from blocwatch.pipeline.build.builder import bodies as known_bodies
+from blocwatch.pipeline.build.planner import bodies as known_bodies
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.report.export import export_frame, network_edges

@@ -66,9 +66,10 @@ def _terms(path: Path, years: list[int]) -> str:
 
 
 def national(job: dict) -> dict:
-    from blocwatch.pipeline.build.builder import body_periods, build
+    from blocwatch.pipeline.build.builder import build
     from blocwatch.pipeline.build.executors import ExecutorSpec, make_executor
     from blocwatch.pipeline.build.matrices import load_votes
+    from blocwatch.pipeline.build.planner import body_periods
     from blocwatch.pipeline.options import BuildOptions
     from blocwatch.pipeline.store.database import Store
 

@@ -1,0 +1,119 @@
+"""The period planner: which body × period pairs exist, which are stale, which are gone.
+
+One place answers these for ``build`` (what to compute, what to skip, what to drop),
+``rebuild`` (what to recompute) and ``status`` (what is stale), so the three cannot disagree.
+
+A body's periods are those the period spec produces over the range of its ballot dates
+(:func:`~blocwatch.pipeline.build.periods.make_periods`); a period holding no vote is passed
+over. A period is
+
+* ``new`` when the store holds no results for it,
+* ``changed`` when its fingerprint (its votes, the groups in force, the build options and the
+  tool version; :func:`~blocwatch.pipeline.build.compute.fingerprint`) differs from the stored
+  one, and
+* ``removed`` when the store holds results for it but the spec no longer produces it.
+
+A body's trends are stale when they are older than its newest period (a run killed between
+its last period and its trends).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from dataclasses import dataclass, field
+
+from blocwatch.pipeline.build.compute import fingerprint
+from blocwatch.pipeline.build.matrices import VoteMatrix, ballot_date_range, load_votes
+from blocwatch.pipeline.build.periods import make_periods
+from blocwatch.pipeline.options import BuildOptions, Period
+from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.store.database import Store
+from blocwatch.pipeline.store.runs import tool_version
+
+
+@dataclass(frozen=True)
+class Stale:
+    body: str
+    period: str | None  # None: the body's trends
+    reason: str  # "new", "changed", "removed", "trends"
+
+
+@dataclass
+class BodyPlan:
+    """One body's periods under a spec, beside the fingerprints the store holds for it."""
+
+    body: str
+    periods: list[Period]
+    stored: dict[str, str] = field(default_factory=dict)  # period name → stored fingerprint
+
+    @property
+    def removed(self) -> list[str]:
+        """Stored periods the spec no longer produces (their results are to be dropped)."""
+        names = {p.name for p in self.periods}
+        return sorted(p for p in self.stored if p not in names)
+
+    def state(self, vm: VoteMatrix, options: BuildOptions, version: str) -> str | None:
+        """``"new"``, ``"changed"`` or None (stored results are current) for a loaded period."""
+        stored = self.stored.get(vm.period.name)
+        if stored is None:
+            return "new"
+        return None if stored == fingerprint(vm, options, version) else "changed"
+
+    def matrices(self, store: Store, only: set[str] | None = None) -> Iterator[VoteMatrix]:
+        """Each period's vote matrix (limited to the names in ``only``), read when asked for;
+        periods holding no vote are passed over."""
+        for period in self.periods:
+            if only is not None and period.name not in only:
+                continue
+            vm = load_votes(store, self.body, period)
+            if vm.votes.size:
+                yield vm
+
+
+def bodies(store: Store, body: str | None = None) -> list[str]:
+    """The named body (checked) or every body in the store."""
+    known = [r[0] for r in store.rows("SELECT body FROM bodies ORDER BY body")]
+    if body is None:
+        if not known:
+            raise UsageError("build", "the store holds no ballots",
+                             "load some with 'blocwatch ingest' first")
+        return known
+    if body not in known:
+        raise UsageError(f"body {body!r}", "is not in the store",
+                         f"use one of: {', '.join(known) or '(none loaded)'}")
+    return [body]
+
+
+def body_periods(store: Store, body: str, spec: str) -> list[Period]:
+    """The periods of ``spec`` over the body's ballot dates (none for a body without ballots)."""
+    span = ballot_date_range(store, body)
+    return [] if span is None else make_periods(spec, span[0], span[1])
+
+
+def plan_body(store: Store, body: str, spec: str) -> BodyPlan:
+    stored = dict(store.rows("SELECT period, fingerprint FROM periods WHERE body = ?", [body]))
+    return BodyPlan(body, body_periods(store, body, spec), stored)
+
+
+def trends_stale(store: Store, body: str) -> bool:
+    """Trends are written after a run's last period, so they must be as new as every period."""
+    newest_period, oldest_trend = store.rows(
+        """SELECT (SELECT max(run_id) FROM periods WHERE body = ?),
+                  (SELECT min(run_id) FROM trends WHERE body = ?)""", [body, body])[0]
+    return newest_period is not None and (oldest_trend is None or oldest_trend < newest_period)
+
+
+def stale_periods(store: Store, options: BuildOptions, body: str | None = None) -> list[Stale]:
+    """The body × period pairs a rebuild would recompute (or remove), without writing."""
+    version = tool_version()
+    known = [r[0] for r in store.rows("SELECT body FROM bodies ORDER BY body")]
+    out = []
+    for b in (k for k in known if body is None or k == body):
+        plan = plan_body(store, b, options.period)
+        found = [Stale(b, vm.period.name, state) for vm in plan.matrices(store)
+                 if (state := plan.state(vm, options, version)) is not None]
+        found += [Stale(b, p, "removed") for p in plan.removed]
+        if not found and trends_stale(store, b):
+            found.append(Stale(b, None, "trends"))
+        out += found
+    return out
