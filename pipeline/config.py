@@ -45,6 +45,7 @@ BODY_KEYS = {  # key -> (accepted TOML types, description for the message)
     "columns": ((dict,), "a table like { member_id = \"MP\", vote = \"Vote\" }"),
     "ballots": ((str,), "a ballots file path (wide layout)"),
     "replace": ((bool,), "true or false"),
+    "scale": ((str,), "a scale spec like \"ordinal:1..5\" (as ingest --scale)"),
 }
 BODY_PATH_KEYS = ("members", "ballots")
 # Commands that take no flags from the file (init writes it; demo makes its own project).
@@ -212,7 +213,7 @@ def body_ingest_options(name: str, cfg: Config | None = None) -> dict:
     cfg = cfg or active_config()
     body = cfg.bodies.get(name, {})
     out: dict[str, Any] = {}
-    for key in ("members", "ballots", "layout", "columns", "codes"):
+    for key in ("members", "ballots", "layout", "columns", "codes", "scale"):
         if key in body:
             value = body[key]
             if key in BODY_PATH_KEYS or (key == "codes" and isinstance(value, str)):

@@ -122,7 +122,7 @@ def _single_body(cfg: Config, params: dict) -> dict[str, tuple[str, object]]:
     name, body = next(iter(cfg.bodies.items()))
     where = f"bodies.{name}"
     out: dict[str, tuple[str, object]] = {"body": (where, name)}
-    for key in ("members", "ballots", "layout", "codes"):
+    for key in ("members", "ballots", "layout", "codes", "scale"):
         if key in body and key in params and isinstance(body[key], str):
             out[key] = (where, body[key])
     if isinstance(body.get("columns"), dict) and "column" in params:

@@ -70,7 +70,8 @@ def _body(name: str | None) -> list[str]:
         "(globs), members (roster file), layout (long or wide), codes (mapping file, or a table "
         "of spelling = choice), columns (a table of field = your column, fields ballot, date, "
         "member, vote, group, name, title, item), ballots (ballots file for the wide layout), "
-        "replace (true: a new file may also overwrite stored votes it contradicts)."
+        "replace (true: a new file may also overwrite stored votes it contradicts), scale "
+        "(of ballots that declare none, as ingest --scale)."
     )]
     body = [
         f"[bodies.{json.dumps(name or 'Example Assembly', ensure_ascii=False)}]",

@@ -276,9 +276,11 @@ class _Load:
         self._codes(votes)
         # One file being written: leave repeated keys to the votes primary key, searched only
         # if the insert trips it (see write() below). Without such a key, search up front.
-        self.deferred = len(votes) == 1 and not self.check_only and bool(store.scalar(
-            "SELECT count(*) FROM duckdb_constraints() WHERE table_name = 'votes' "
-            "AND constraint_type = 'PRIMARY KEY'"))
+        # Inside a caller's transaction (a rebuild's scan) a tripped key would abort it all.
+        self.deferred = len(votes) == 1 and not self.check_only \
+            and not store.in_transaction and bool(store.scalar(
+                "SELECT count(*) FROM duckdb_constraints() WHERE table_name = 'votes' "
+                "AND constraint_type = 'PRIMARY KEY'"))
         vote_tables = [conflicts.reduce_votes(store, s, k, problems,
                                               find_duplicates=not self.deferred)
                        for k, s in votes.items()]

@@ -34,6 +34,7 @@ from blocwatch.pipeline.build.planner import Stale, stale_periods
 from blocwatch.pipeline.config import Config, active_config, body_ingest_options, body_sources
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.ops.lock import store_lock
+from blocwatch.pipeline.ops.scan_load import load_scan
 from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.store.database import Store
 
@@ -129,23 +130,6 @@ def _seen(path: Path, cfg: Config, seen_paths: set[str]) -> bool:
     return any(p.replace("\\", "/").endswith(tail) for p in seen_paths)
 
 
-def _ingest(store: Store, cfg: Config, pending: list[SourceFile]) -> list[SourceFile]:
-    """Load each body's pending files: changed ones first (they replace what they said before),
-    then new ones (a conflict with stored votes is an error unless the body sets replace).
-    The roster and ballots files go with every call; a call skips them once loaded."""
-    from blocwatch.pipeline.ingest.load import ingest_files
-
-    done = []
-    for name in dict.fromkeys(s.body for s in pending):
-        opts = body_ingest_options(name, cfg)
-        replace_new = bool(cfg.bodies.get(name, {}).get("replace", False))
-        for state, replace in (("changed", True), ("new", replace_new)):
-            group = [s for s in pending if s.body == name and s.state == state]
-            if group:
-                ingest_files(store, [s.path for s in group if s.kind == "votes"], body=name,
-                             replace=replace, **opts)
-                done += group
-    return done
 
 
 def results_run(store: Store) -> int | None:
@@ -205,7 +189,7 @@ def rebuild(store_path: str | Path, *, options: BuildOptions | None = None,
         with Store(store_path) as store:
             report.sources = scan_sources(store, cfg, body)
             pending = [s for s in report.sources if s.state != "loaded"]
-            report.ingested = _ingest(store, cfg, pending) if pending else []
+            report.ingested = load_scan(store, cfg, pending) if pending else []
             empty = [n for n in _config_bodies(cfg, body)
                      if not any(s.body == n and s.kind == "votes" for s in report.sources)]
             report.notes = [f"bodies.{n}.sources matches no file yet" for n in empty]

@@ -206,6 +206,11 @@ class Store:
     def __exit__(self, *exc: object) -> None:
         self.close()
 
+    @property
+    def in_transaction(self) -> bool:
+        """Whether a :meth:`transaction` is open (a failed statement would abort all of it)."""
+        return self._depth > 0
+
     @contextlib.contextmanager
     def transaction(self) -> Iterator[Store]:
         """All statements inside commit together or not at all (nested calls join the outer)."""

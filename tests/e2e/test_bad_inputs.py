@@ -57,6 +57,8 @@ def test_bad_input(case, base_store, tmp_path):
         before = s.content_hash()
     command = case.get("command", "ingest")
     args = [command, *case["args"], "--store", store]
+    if case.get("config"):  # a rebuild reads its bodies from a config of the corpus
+        args = ["--config", case["config"], *args]
     if command == "ingest" and case.get("body", True):
         args += ["--body", "Council"]
     result = _invoke(args, BAD)
