@@ -7,6 +7,7 @@ import pandas as pd
 from blocwatch.dashboards import labels, numbers, text
 from blocwatch.dashboards.bridges import left_out_note, top_bridges
 from blocwatch.dashboards.chart import Chart, slug
+from blocwatch.dashboards.counted import counted_html
 from blocwatch.dashboards.groups import heatmap_chart
 from blocwatch.dashboards.headline import (
     SUMMARY_COLUMNS,
@@ -92,6 +93,7 @@ def build_briefing(tables: ReportTables, body: str, *, colours: dict[str, str],
         "period": "Period", "group_a": "Group", "group_b": "Group", "agreement": "Agreement",
         "n_pairs": "Pairs"}))
     parts.append(_bridges(t, body, n_bridges, bridge, chosen))
+    parts.append(counted_html(m, t.members, tables.provenance))
     parts.append(text.reading_html())
     parts.append(text.methods_html(names, sorted(t.members["metric"].dropna().unique()), known))
     parts.append(text.provenance_html(tables.provenance, sorted(m["run_id"].dropna().unique())))
@@ -212,7 +214,8 @@ def _span(m: pd.DataFrame) -> str:
 
 def _nav() -> str:
     links = [("summary", "Summary"), ("trends", "Trends"), ("networks", "Networks"),
-             ("groups", "Groups"), ("bridges", "Bridges"), ("reading", "Reading these figures"),
+             ("groups", "Groups"), ("bridges", "Bridges"), ("counted", "Who is counted"),
+             ("reading", "Reading these figures"),
              ("methods", "Methods"), ("provenance", "Provenance")]
     return ("<nav class='bw-nav' aria-label='Sections'>"
             + "".join(f"<a href='#{a}'>{t}</a>" for a, t in links) + "</nav>")

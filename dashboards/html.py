@@ -80,7 +80,8 @@ def chart_div(chart: Chart, dom_id: str, *, tall: bool = False) -> str:
             f"{script_json(spec_json(chart))}</script>")
 
 
-INT_COLUMNS = {"n_members", "n_ballots", "n_pairs", "rank", "n_periods", "cross_partners"}
+INT_COLUMNS = {"n_members", "n_ballots", "n_pairs", "rank", "n_periods", "cross_partners",
+               "n_dropped"}
 VALUE_COLUMNS = {"value", "low", "high", "null_mean", "score"}
 
 

@@ -17,7 +17,9 @@ from blocwatch.dashboards import labels, numbers, palette
 from blocwatch.dashboards.chart import Chart, plain
 from blocwatch.dashboards.safe import esc
 
-BRIDGE_METRICS = ("cross_tie_share", "participation", "delta_q", "cross_partners")
+# Participation first: on the weighted graph it does not saturate the way a thresholded tie share
+# does (many members at 1.00), and it compares members on one scale (Guimerà & Amaral 2005).
+BRIDGE_METRICS = ("participation", "cross_tie_share", "delta_q", "cross_partners")
 EDGE_STEPS = (0.06, 0.14, 0.26, 0.45)  # opacity per agreement quartile of the drawn range
 
 

@@ -79,16 +79,18 @@ def interval_state(value, low, high, *, integer: bool = False) -> str:
     ('ok', 'outside')
     >>> interval_state(1.0, 0.999, 1.0), interval_state(0.5, None, 0.6)
     ('degenerate', 'none')
+    >>> interval_state(1, 2, 2, integer=True)  # a count outside a flat interval
+    'outside'
     """
     v, lo, hi = _number(value), _number(low), _number(high)
     if v is None or lo is None or hi is None:
         return "none"
-    if fmt(lo, integer=integer) == fmt(hi, integer=integer):
-        return "degenerate"
     # A tiny tolerance: an estimate equal to an end up to float noise is inside.
     slack = 1e-9 * max(1.0, abs(lo), abs(hi))
     if not lo - slack <= v <= hi + slack:
-        return "outside"
+        return "outside"  # checked first: a flat interval can leave out its estimate too
+    if fmt(lo, integer=integer) == fmt(hi, integer=integer):
+        return "degenerate"
     return "ok"
 
 

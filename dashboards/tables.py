@@ -23,11 +23,11 @@ SCHEMAS: dict[str, tuple[tuple[str, ...], tuple[str, ...]]] = {
     "metrics": (
         ("body", "period", "metric", "value"),
         ("period_start", "period_end", "low", "high", "null_mean", "null_z", "null_p",
-         "n_members", "n_ballots", "note", "run_id"),
+         "n_members", "n_ballots", "note", "run_id", "n_dropped"),
     ),
     "members": (
         ("body", "period", "member_id", "metric", "value"),
-        ("name", "group_name"),
+        ("name", "group_name", "note"),
     ),
     "group_agreement": (
         ("body", "period", "group_a", "group_b", "agreement"),
@@ -95,7 +95,8 @@ class ReportTables:
     ----------
     metrics : DataFrame
         One row per body × period × metric: ``body, period, period_start, period_end, metric,
-        value, low, high, null_mean, null_z, null_p, n_members, n_ballots, note, run_id``.
+        value, low, high, null_mean, null_z, null_p, n_members, n_ballots, note, run_id,
+        n_dropped`` (members left out of the period).
         ``low``/``high`` are an interval (drawn as a band), ``note`` says why a value is empty.
         Unknown metric names are drawn generically with their raw name as label.
     members : DataFrame, optional

@@ -98,7 +98,7 @@ def test_heatmap_without_table_is_not_computed():
 def test_top_bridges_sorted_per_period():
     t = make_tables()
     table, metric, _ = top_bridges(t.members, HARBOUR, ["2001", "2002"], n=3)
-    assert metric == "cross_tie_share"
+    assert metric == "participation"
     for period, g in table.groupby("period"):
         assert g["score"].is_monotonic_decreasing and g["rank"].is_monotonic_increasing
         m = t.members[(t.members.body == HARBOUR) & (t.members.period == period)
