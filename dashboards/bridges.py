@@ -52,8 +52,9 @@ def rank_period(scores: pd.DataFrame, metric: str, *, n: int = 3) -> tuple[pd.Da
 
     ``scores`` is ``network.member_scores`` of one period. Returns rows with ``member_id, name,
     group_name, score, rank`` (rank 1 = highest, ties share a rank) and counts of the members
-    left out by each rule.
+    left out by each rule (``unscored``: the build gave them no score, e.g. a group too small).
     """
+    unscored = int(scores[metric].isna().sum())
     have = scores[scores[metric].notna()].copy()
     lone = _group_sizes(have) < 2
     positive = have[metric] > 0
@@ -63,7 +64,7 @@ def rank_period(scores: pd.DataFrame, metric: str, *, n: int = 3) -> tuple[pd.Da
     else:
         chance = pd.Series(False, index=have.index)
     left = {"lone": int(lone.sum()), "zero": int((~lone & ~positive).sum()),
-            "null": int((~lone & positive & chance).sum())}
+            "null": int((~lone & positive & chance).sum()), "unscored": unscored}
     keep = have[~lone & positive & ~chance].copy()
     integer = metric in labels.INTEGER_MEMBER_METRICS
     # Rank on the printed value: two members shown with the same score share a rank.
@@ -84,7 +85,7 @@ def top_bridges(members: pd.DataFrame, body: str, periods: list[str], *, n: int 
     counts left out per rule, summed over the periods.
     """
     frames, used = [], metric
-    left = {"lone": 0, "zero": 0, "null": 0}
+    left = {"lone": 0, "zero": 0, "null": 0, "unscored": 0}
     body_members = members[members["body"] == body]
     shown = display_names(body_members) if not body_members.empty else {}
     for period in periods:
@@ -118,6 +119,9 @@ def left_out_note(left: dict, n_periods: int) -> str:
                      "their ties cross groups by construction)")
     if left.get("zero"):
         parts.append(f"{numbers.plural(left['zero'], 'member')} with a score of zero")
+    if left.get("unscored"):
+        parts.append(f"{numbers.plural(left['unscored'], 'member')} without a score (for "
+                     "example in a group too small for it; the member notes say why)")
     if left.get("null"):
         parts.append(f"{numbers.plural(left['null'], 'member')} whose score is not above what "
                      "shuffled groups give")

@@ -1,9 +1,10 @@
 """Who is counted in each period: the members left out and why, and where a switcher is placed.
 
 Read from the stored results only: ``n_members`` and ``n_dropped`` per period (metrics table),
-the build's ``min_share_cast`` and ``min_shared`` (provenance parameters), and, where the members
-table holds them, rows of the member score ``left_out`` (value = share of the period's counted
-ballots the member cast; ``note`` = why) naming who was left out.
+the build's ``min_share_cast`` (provenance parameters), and, where the members table holds them,
+the member rows ``left_out`` (value = ballots the member cast; ``note`` = why) and ``placement``
+(value = share of the member's cast ballots that fell in the group they were placed in; ``note``
+= the ballots per group and the rule).
 """
 
 from __future__ import annotations
@@ -71,12 +72,18 @@ def counted_html(metrics: pd.DataFrame, members: pd.DataFrame, provenance: dict)
                      f"{numbers.plural(int((dropped > 0).sum()), 'period')} (a member left "
                      "out of several periods counts once in each).</p>"
                      + numbers_table(table, LEFT_OUT_COLUMNS))
-    named = members[members["metric"] == "left_out"] if not members.empty else members
-    if len(named):
-        rows = named.assign(share=named["value"])[["period", "name", "group_name", "share",
-                                                   "note"]]
-        parts.append("<details><summary>Members left out, by period</summary>"
-                     + numbers_table(rows, {"period": "Period", "name": "Member",
-                                            "group_name": "Group", "share": "Share cast",
-                                            "note": "Why"}) + "</details>")
+    parts += [_named(members, "left_out", "Members left out, by period",
+                     {"n_cast": "Ballots cast", "note": "Why"}),
+              _named(members, "placement", "Members who changed group, and where they are "
+                     "counted", {"value": "Share in that group", "note": "How"})]
     return "".join(parts) + "</section>"
+
+
+def _named(members: pd.DataFrame, metric: str, title: str, columns: dict[str, str]) -> str:
+    rows = members[members["metric"] == metric] if len(members) else members
+    if rows.empty:
+        return ""
+    shown = {"period": "Period", "name": "Member", "group_name": "Group", **columns}
+    rows = rows.assign(name=rows["name"].fillna(rows["member_id"]), n_cast=rows["value"])
+    return (f"<details><summary>{esc(title)} ({len(rows)})</summary>"
+            f"{numbers_table(rows, shown)}</details>")

@@ -81,7 +81,7 @@ def chart_div(chart: Chart, dom_id: str, *, tall: bool = False) -> str:
 
 
 INT_COLUMNS = {"n_members", "n_ballots", "n_pairs", "rank", "n_periods", "cross_partners",
-               "n_dropped"}
+               "n_dropped", "n_cast"}
 VALUE_COLUMNS = {"value", "low", "high", "null_mean", "score"}
 
 

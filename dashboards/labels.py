@@ -64,6 +64,9 @@ METRICS: dict[str, MetricInfo] = {
 }
 
 MEMBER_METRICS: dict[str, str] = {
+    "bridging": "Bridging score",
+    "bridge_rank": "Bridge rank (stored)",
+    "bridging_null_p": "Bridging p (shuffled groups)",
     "cross_tie_share": "Cross-group tie share",
     "participation": "Participation coefficient",
     "cross_partners": "Cross-group partners",
@@ -76,6 +79,15 @@ MEMBER_METRICS: dict[str, str] = {
 
 # What each member score means (the page's Methods section and bridges table print these).
 MEMBER_WHAT: dict[str, str] = {
+    "bridging": "the member's mean agreement with members of other groups divided by their "
+                "mean agreement with the other members of their own group: 1 = no preference "
+                "for their own group, above 1 = closer to the others; no score in a group "
+                "too small for an own-group mean",
+    "bridge_rank": "the member's rank by bridging score among members whose score is above "
+                   "what shuffled groups give (ties share a rank), as the build stored it",
+    "bridging_null_p": "share of bridging scores under shuffled groups (sizes kept) at least "
+                       "as high as the member's: small means the score is not what random "
+                       "groups would give",
     "cross_tie_share": "share of the member's ties in the period's graph that go to members of "
                        "other groups (a member alone in a group has only such ties)",
     "participation": "how evenly the member's tie weight spreads over the groups: 0 when all "
@@ -94,7 +106,7 @@ MEMBER_WHAT: dict[str, str] = {
     "mds_2": "second coordinate of the same map",
 }
 
-INTEGER_MEMBER_METRICS = {"cross_partners"}
+INTEGER_MEMBER_METRICS = {"cross_partners", "bridge_rank"}
 
 # Preferred order of charts on a page; unknown metrics follow alphabetically.
 ORDER = list(METRICS)

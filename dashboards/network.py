@@ -17,15 +17,20 @@ from blocwatch.dashboards import labels, numbers, palette
 from blocwatch.dashboards.chart import Chart, plain
 from blocwatch.dashboards.safe import esc
 
-# Participation first: on the weighted graph it does not saturate the way a thresholded tie share
-# does (many members at 1.00), and it compares members on one scale (Guimerà & Amaral 2005).
-BRIDGE_METRICS = ("participation", "cross_tie_share", "delta_q", "cross_partners")
+# Bridging (agreement with other groups over agreement within the own group) first: it does not
+# saturate and gives a small group no bonus; then the participation coefficient, which does not
+# saturate either (Guimerà & Amaral 2005), before the thresholded tie share (many at 1.00).
+BRIDGE_METRICS = ("bridging", "participation", "cross_tie_share", "delta_q", "cross_partners")
+# Member rows that are not scores: who was left out of a period and how a switcher was placed
+# (shown under "Who is counted", never drawn as nodes or used as a score).
+ROSTER_METRICS = ("left_out", "placement")
 EDGE_STEPS = (0.06, 0.14, 0.26, 0.45)  # opacity per agreement quartile of the drawn range
 
 
 def member_scores(members: pd.DataFrame, body: str, period: str) -> pd.DataFrame:
     """One period's members, wide: ``member_id, name, group_name`` + one column per score."""
-    rows = members[(members["body"] == body) & (members["period"] == period)]
+    rows = members[(members["body"] == body) & (members["period"] == period)
+                   & ~members["metric"].isin(ROSTER_METRICS)]
     if rows.empty:
         return pd.DataFrame(columns=["member_id", "name", "group_name"])
     who = rows.groupby("member_id", sort=False)[["name", "group_name"]].first()

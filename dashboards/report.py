@@ -83,7 +83,7 @@ def write_report(out_dir: str | os.PathLike, tables: ReportTables, *,
         Strongest ties drawn per network picture.
     bridge_metric : str, optional
         Member score for node size and the bridges table (default: the first present of
-        ``participation``, ``cross_tie_share``, ``delta_q``, ``cross_partners``).
+        ``bridging``, ``participation``, ``cross_tie_share``, ``delta_q``, ``cross_partners``).
 
     Returns
     -------

@@ -37,3 +37,17 @@ def test_counts_per_period_as_stored_with_plurals():
     assert "1 member left out over 1 period " in one
     none = counted_html(_metrics([0, 0]), ReportTables().members, {})
     assert "No member was left out in any of the 2 periods" in none
+
+
+def test_named_rows_for_left_out_members_and_switchers():
+    rows = pd.DataFrame({
+        "body": BODY, "period": ["2001", "2001"], "member_id": ["hb-11", "hb-00"],
+        "name": ["Oren Pask", "Ines Varo"], "group_name": [None, "Tideward"],
+        "metric": ["left_out", "placement"], "value": [5.0, 0.625],
+        "note": ["left out of this period: cast 5 of its 40 ballots",
+                 "placed in Tideward: Tideward for 25 cast ballots, Quayside for 15"]})
+    html = counted_html(_metrics([1]), ReportTables(members=rows).members, {})
+    left = html.split("Members left out, by period (1)", 1)[1].split("</details>", 1)[0]
+    assert "Oren Pask" in left and "cast 5 of its 40 ballots" in left and ">5<" in left
+    moved = html.split("Members who changed group", 1)[1].split("</details>", 1)[0]
+    assert "Ines Varo" in moved and "0.62" in moved and "Quayside for 15" in moved
