@@ -25,7 +25,8 @@ HEADLINE_METRICS = ("group_modularity", "separability", "cross_group_share", "gr
 HEADLINE_LIMIT = 4
 
 
-def _series(metrics: pd.DataFrame, body: str, metric: str) -> pd.DataFrame:
+def series(metrics: pd.DataFrame, body: str, metric: str) -> pd.DataFrame:
+    """The stored rows of ``metric`` for ``body`` in time order (values may be missing)."""
     rows = metrics[(metrics["body"] == body) & (metrics["metric"] == metric)]
     order = period_table(metrics[metrics["body"] == body])[["period"]]
     return order.merge(rows, on="period", how="inner")
@@ -69,7 +70,7 @@ def summary(metrics: pd.DataFrame, body: str, metric: str, *,
     2011)."
     """
     info = labels.info(metric, known)
-    s = _series(metrics, body, metric)
+    s = series(metrics, body, metric)
     have = s[s["value"].notna()]
     if have.empty:
         notes = [n for n in s["note"].dropna().unique()]
@@ -148,7 +149,7 @@ def summary_table(metrics: pd.DataFrame, body: str, *, trends: pd.DataFrame | No
     for metric in labels.ordered(metrics.loc[metrics["body"] == body, "metric"].dropna()
                                  .unique()):
         info = labels.info(metric, known)
-        s = _series(metrics, body, metric)
+        s = series(metrics, body, metric)
         have = s[s["value"].notna()]
         row = {"metric": metric, "label": info.label,
                "direction": {"higher": "higher", "lower": "lower"}.get(info.direction, "")}

@@ -24,8 +24,11 @@ READING = (
 )
 
 EXTRA_METHODS = (
-    ("Shaded bands", "intervals stored with the results (see the run parameters in the footer "
-     "for how they were made); absent where the run computed none.", ""),
+    ("Shaded bands and intervals", "95 % intervals stored with the results (see the run "
+     "parameters in the footer for how they were made; absent where the run computed none). "
+     "An interval that does not contain its own estimate is withheld and the row says so; an "
+     "interval with no width at the precision shown is not printed as one: the page says that "
+     "resampling showed no spread, which with few members or ballots is not certainty.", ""),
     ("Dotted lines", "the mean of the measure with group labels shuffled among the members "
      "present, group sizes kept: the level to expect if groups did not matter.", ""),
     ("Trend test", "Mann–Kendall test with Kendall's τ, and the Theil–Sen slope per period.",

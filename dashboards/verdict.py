@@ -29,8 +29,7 @@ from dataclasses import dataclass
 import pandas as pd
 
 from blocwatch.dashboards import labels, numbers
-from blocwatch.dashboards.headline import lead_metric
-from blocwatch.dashboards.periods import period_table
+from blocwatch.dashboards.headline import lead_metric, series
 
 MIN_MEMBERS = 15
 MIN_BALLOTS = 20
@@ -45,13 +44,6 @@ class Verdict:
     kind: str
     sentence: str
     why: str
-
-
-def _series(metrics: pd.DataFrame, body: str, metric: str) -> pd.DataFrame:
-    rows = metrics[(metrics["body"] == body) & (metrics["metric"] == metric)]
-    order = period_table(metrics[metrics["body"] == body])[["period"]]
-    s = order.merge(rows, on="period", how="inner")
-    return s[s["value"].notna()].reset_index(drop=True)
 
 
 def _trend(trends: pd.DataFrame | None, body: str, metric: str) -> tuple[float, float] | None:
@@ -76,7 +68,8 @@ def verdict(metrics: pd.DataFrame, body: str, metric: str | None, *,
     if metric is None:
         return _little(body, "no measure has been computed for it")
     info = labels.info(metric, known)
-    s = _series(metrics, body, metric)
+    s = series(metrics, body, metric)
+    s = s[s["value"].notna()].reset_index(drop=True)
     if len(s) < 2:
         return _little(body, f"{labels.in_sentence(info.label)} has a value in "
                              f"{numbers.plural(len(s), 'period')}, and a change needs two")
