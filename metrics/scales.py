@@ -100,12 +100,24 @@ def match_counts(codes, *, ballot_weights=None) -> tuple[np.ndarray, np.ndarray]
     return same, shared
 
 
-def ratio_matrix(num: np.ndarray, shared: np.ndarray, *, min_shared: float = 1,
-                 complement: bool = False) -> np.ndarray:
-    """num / shared (or 1 − num / shared), NaN where shared < ``min_shared``; diagonal 1."""
-    out = np.full(shared.shape, np.nan)
-    ok = shared >= max(min_shared, 1e-12)
-    np.divide(num, shared, out=out, where=ok)
+def ratio_matrix(num: np.ndarray, denom: np.ndarray, *, min_shared: float = 1,
+                 shared: np.ndarray | None = None, complement: bool = False) -> np.ndarray:
+    """num / denom (or 1 − num / denom) as float64, NaN where the pair shared fewer than
+    ``min_shared`` ballots or ``denom`` is 0; diagonal 1.
+
+    ``shared`` counts the ballots both members answered when it differs from ``denom`` (e.g.
+    kappa, defined on fewer ballots than were shared); by default it is ``denom``. This is the
+    one divider every agreement matrix goes through.
+
+    >>> ratio_matrix(np.array([[2., 1.], [1., 2.]]), np.array([[2., 4.], [4., 2.]]),
+    ...              min_shared=5).tolist()
+    [[1.0, nan], [nan, 1.0]]
+    """
+    denom = np.asarray(denom)
+    shared = denom if shared is None else np.asarray(shared)
+    out = np.full(denom.shape, np.nan)
+    ok = (shared >= max(min_shared, 1e-12)) & (denom > 0)
+    np.divide(num, denom.astype(np.float64), out=out, where=ok)
     if complement:
         out = 1.0 - out
     np.fill_diagonal(out, 1.0)

@@ -13,7 +13,7 @@ import numpy as np
 import pandas as pd
 
 from blocwatch.dashboards.tables import ReportTables
-from blocwatch.pipeline.report.frames import measure_list
+from blocwatch.pipeline.report.metric_list import metric_list
 
 HARBOUR = "Harbour Board of Veldmark"
 TARN = "Assembly of the Tarn Isles"
@@ -104,7 +104,7 @@ def make_tables(*, evil: bool = False, two_bodies: bool = True, n_members: int =
                                   evil=False, groups=GROUPS[:2]))
     parts = [pd.concat(f, ignore_index=True) for f in zip(*frames)]
     return ReportTables(metrics=parts[0], members=parts[1], group_agreement=parts[2],
-                        measures=measure_list(),
+                        measures=metric_list(),
                         trends=parts[3], edges=parts[4],
                         provenance={"data_fingerprint": "sha256:0f3c…", "run_id": "run-7",
                                     "parameters": {"rule": "weighted", "seed": 0},

@@ -76,8 +76,9 @@ def agreement_weights(drop=()) -> np.ndarray:
     return w
 
 
-def write_csv(path: str | Path, *, dates: dict[str, str] | None = None) -> Path:
-    """The roll call as a long CSV (ballot_id, date, member_id, vote, group)."""
+def write_csv(path: str | Path, *, dates: dict[str, str] | None = None, prefix: str = "") -> Path:
+    """The roll call as a long CSV (ballot_id, date, member_id, vote, group); ``prefix``
+    goes before each ballot id (ids are unique within a body)."""
     path = Path(path)
     dates = dates or DATES
     with path.open("w", newline="") as fh:
@@ -85,5 +86,35 @@ def write_csv(path: str | Path, *, dates: dict[str, str] | None = None) -> Path:
         w.writerow(["ballot_id", "date", "member_id", "vote", "group"])
         for ballot, row in TABLE.items():
             for member, group, code in zip(MEMBERS, GROUPS, row):
-                w.writerow([ballot, dates[ballot], member, code, group])
+                w.writerow([prefix + ballot, dates[ballot], member, code, group])
     return path
+
+
+def write_years(folder: str | Path, years=(2019, 2020)) -> list[Path]:
+    """One long CSV per year, each holding the whole roll call (dates moved into that year,
+    ballot ids prefixed with the year)."""
+    out = []
+    for year in years:
+        dates = {b: f"{year}{d[4:]}" for b, d in DATES.items()}
+        out.append(write_csv(Path(folder) / f"toy-{year}.csv", dates=dates, prefix=f"{year}-"))
+    return out
+
+
+def load_store(path: str | Path, years=(2019, 2020), *, body: str = "Toy"):
+    """A real DuckDB store at ``path`` holding the roll call once per year (one period each
+    under the default period spec); returns the open :class:`Store`."""
+    from blocwatch.pipeline.ingest.load import ingest_files
+    from blocwatch.pipeline.store.database import Store
+
+    store = Store(path)
+    ingest_files(store, write_years(Path(path).parent, years), body=body)
+    return store
+
+
+# Build options under which the roll call has numbers: every pair shares 3–4 counted ballots,
+# so the default minimum of 5 shared ballots would leave no agreement at all.
+def fast_options(**agreement):
+    from blocwatch.pipeline.options import AgreementOptions, BuildOptions
+
+    return BuildOptions(bootstrap=0, permutations=0,
+                        agreement=AgreementOptions(**{"min_shared": 1, **agreement}))

@@ -17,29 +17,8 @@ from __future__ import annotations
 import numpy as np
 
 from blocwatch.metrics.registry import ABSTAIN, NO, YES
+from blocwatch.metrics.scales import ratio_matrix
 from blocwatch.pipeline.options import AgreementOptions
-
-
-def position_arrays(votes: np.ndarray, *, abstain_as_position: bool = False
-                    ) -> list[np.ndarray]:
-    """One float32 0/1 array per counted position (yes, no[, abstain])."""
-    codes = (YES, NO, ABSTAIN) if abstain_as_position else (YES, NO)
-    return [(votes == c).astype(np.float32) for c in codes]
-
-
-def ballot_mask(votes: np.ndarray, opts: AgreementOptions) -> np.ndarray:
-    """Ballots kept: at least two counted votes, and not unanimous / lopsided as configured."""
-    pos = position_arrays(votes, abstain_as_position=opts.abstain_as_position)
-    counts = np.stack([p.sum(axis=0) for p in pos])  # positions × ballots
-    total = counts.sum(axis=0)
-    keep = total >= 2
-    largest = counts.max(axis=0)
-    minority = np.divide(total - largest, total, out=np.zeros_like(total), where=total > 0)
-    if opts.drop_unanimous:
-        keep &= minority > 0
-    if opts.lopsided > 0:
-        keep &= minority >= opts.lopsided
-    return keep
 
 
 # Largest total weight for the √w route: each term then carries at most ~2⁻²² of rounding, so
@@ -103,10 +82,6 @@ def agreement_counts(votes: np.ndarray, *, weights: np.ndarray | None = None,
 
 
 def agreement_matrix(same: np.ndarray, both: np.ndarray, *, min_shared: int = 1) -> np.ndarray:
-    """same / both as float64, NaN where both < ``min_shared``; diagonal 1."""
-    both64 = both.astype(np.float64)
-    out = np.full(both.shape, np.nan)
-    ok = both64 >= max(min_shared, 1)
-    np.divide(same, both64, out=out, where=ok)
-    np.fill_diagonal(out, 1.0)
-    return out
+    """same / both as float64, NaN where both < ``min_shared``; diagonal 1
+    (:func:`~blocwatch.metrics.scales.ratio_matrix`, the one divider)."""
+    return ratio_matrix(same, both, min_shared=max(min_shared, 1))

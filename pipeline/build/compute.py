@@ -20,10 +20,11 @@ from blocwatch.metrics.nulls import label_permutation_null
 from blocwatch.metrics.positions import with_ideal_points
 from blocwatch.metrics.reliability import alpha_by_group
 from blocwatch.metrics.resampling import ballot_weights, percentile_interval, stable_seed
-from blocwatch.pipeline.build import scored
-from blocwatch.pipeline.build.agreement import agreement_counts, agreement_matrix, ballot_mask
+from blocwatch.pipeline.build.agreement import agreement_counts, agreement_matrix
+from blocwatch.pipeline.build.filters import filter_period
 from blocwatch.pipeline.build.graphs import build_graph
 from blocwatch.pipeline.build.matrices import VoteMatrix
+from blocwatch.pipeline.build.scored_agreement import scored_period_input
 from blocwatch.pipeline.options import AgreementOptions, BuildOptions, parse_rule
 
 METRIC_COLUMNS = ["metric", "value", "low", "high", "null_mean", "null_z", "null_p", "note"]
@@ -58,27 +59,16 @@ def fingerprint(vm: VoteMatrix, opts: BuildOptions, version: str) -> str:
     return h.hexdigest()
 
 
-def filter_period(vm: VoteMatrix, opts: AgreementOptions) -> VoteMatrix:
-    """Drop unanimous/lopsided ballots, then members who cast too few of the rest."""
-    if vm.scales is not None:
-        return scored.filter_scored(vm, opts)
-    keep_ballots = ballot_mask(vm.votes, opts) if vm.votes.size else np.zeros(0, bool)
-    vm = vm.subset(ballots=keep_ballots)
-    cast = (vm.votes != registry.MISSING).sum(axis=1)
-    needed = max(1, int(np.ceil(opts.min_share_cast * vm.votes.shape[1])))
-    keep_members = cast >= needed
-    return vm.subset(members=keep_members, dropped=int((~keep_members).sum()))
-
-
 def period_input(votes: np.ndarray, labels: np.ndarray, opts: BuildOptions, seed: int,
                  weights: np.ndarray | None = None, scales=None) -> PeriodInput:
     """Agreement, graph and metric input for one (possibly reweighted) vote matrix.
 
     Scored ballots (``scales``) and the kappa measure go through
-    :func:`blocwatch.pipeline.build.scored.scored_period_input`; yes/no with ``match`` stays here.
+    :func:`blocwatch.pipeline.build.scored_agreement.scored_period_input`; yes/no with
+    ``match`` stays here.
     """
     if scales is not None or opts.agreement.measure != "match":
-        return scored.scored_period_input(votes, scales, labels, opts, seed, weights)
+        return scored_period_input(votes, scales, labels, opts, seed, weights)
     same, both = agreement_counts(votes, weights=weights,
                                   abstain_as_position=opts.agreement.abstain_as_position)
     agreement = agreement_matrix(same, both, min_shared=opts.agreement.min_shared)

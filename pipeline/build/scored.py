@@ -1,29 +1,19 @@
-"""Periods with scored ballots: their answers beside the vote matrix, filters, and agreement.
+"""Scored ballots: each ballot's scale and the scored answers beside the vote matrix, and the
+answers of each kind as the arrays agreement and the period filter read.
 
-The kind of answer decides the distance (see :mod:`blocwatch.metrics.scales`):
+The kind of answer decides when two answers are alike and how far apart they are (see
+:mod:`blocwatch.metrics.scales`):
 
 * binary — same position or not (as for every yes/no body);
 * categorical — same option or not; any two different options are equally far apart;
 * ordinal, continuous — ``1 − |a − b| / range``, the answers placed on [0, 1] by the ballot's
   declared range (or, for amounts without one, its spread: largest minus smallest answer).
 
-**Combination rule** for a body mixing kinds (``--agreement match``, the default): the mean,
-over the ballots both members answered, of each ballot's agreement in [0, 1]:
-``a_ij = Σ_b w_b s_b(i, j) / Σ_b w_b``. On a yes/no body this is the usual share of shared
-ballots cast alike, so nothing changes there.
-
-**Chance-corrected** (``--agreement kappa``; ``kappa-quadratic``): per kind, Cohen's kappa
-(binary, categorical: unweighted; ordinal: linear or quadratic weights) and, for amounts,
-Pearson's r; a body mixing kinds takes their mean weighted by the shared ballots of each kind.
-These are signed, and negative weights break modularity's null model (METHODS §1), so the
-graph gets **max(κ, 0)**: chance-level and worse-than-chance pairs get no tie, and 0 keeps its
-meaning "no affinity beyond chance". (κ + 1)/2 was rejected: it gives every chance-level pair
-weight ½ and brings back the compression of Q that dense graphs suffer.
-
 Abstentions follow ``--abstain-as-position`` on binary and categorical ballots (an extra
 option); a score ballot has no place for them on its scale, so there they count as absences.
 
-The agreement itself is computed in :mod:`blocwatch.pipeline.build.scored_agreement`.
+How agreement combines the kinds is in :mod:`blocwatch.pipeline.build.scored_agreement`; which
+ballots and members a period keeps, in :mod:`blocwatch.pipeline.build.filters`.
 """
 
 from __future__ import annotations
@@ -36,14 +26,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from blocwatch.metrics.registry import ABSTAIN, MISSING, YES
-from blocwatch.pipeline.build.agreement import ballot_mask
-from blocwatch.pipeline.build.scored_agreement import (  # noqa: F401  (the period-side API)
-    MEASURES,
-    answer_sets,
-    scored_agreement,
-    scored_period_input,
-)
+from blocwatch.metrics.registry import ABSTAIN, MISSING, NO, YES
 from blocwatch.pipeline.store.database import Store
 
 
@@ -136,49 +119,50 @@ def attach_scales(store: Store, vm):
     return dataclasses.replace(vm, votes=votes, scales=scales)
 
 
-# -- filters --------------------------------------------------------------------------------------
+# -- per-kind answer arrays ---------------------------------------------------------------------
 
-def _mode_share(x: np.ndarray, missing) -> tuple[np.ndarray, np.ndarray]:
-    """Per column: number of answers and the count of the most common one (vectorised)."""
-    valid = ~np.isnan(x) if missing is None else (x != missing)
-    v = np.where(valid, x, np.inf).astype(np.float64)
-    s = np.sort(v, axis=0)
-    n = valid.sum(axis=0)
-    if s.shape[0] == 0:
-        return n, np.zeros_like(n)
-    new = np.vstack([np.ones((1, s.shape[1]), bool), s[1:] != s[:-1]])
-    run = np.cumsum(new, axis=0)
-    idx = run + (np.arange(s.shape[1]) * (s.shape[0] + 1))[None, :]
-    counts = np.bincount(idx[np.isfinite(s)], minlength=s.shape[1] * (s.shape[0] + 1))
-    top = counts.reshape(s.shape[1], s.shape[0] + 1).max(axis=1)
-    return n, top
+def _binary_codes(votes: np.ndarray, abstain: bool) -> np.ndarray:
+    codes = np.full(votes.shape, -1, dtype=np.int64)
+    codes[votes == YES], codes[votes == NO] = 0, 1
+    if abstain:
+        codes[votes == ABSTAIN] = 2
+    return codes
 
 
-def scored_ballot_mask(vm, opts) -> np.ndarray:
-    """Ballots kept: two or more answers, not unanimous / lopsided (same rule as yes/no)."""
-    sm = vm.scales
-    keep = np.ones(vm.votes.shape[1], dtype=bool)
-    binary = sm.kinds == "binary"
-    if binary.any():
-        keep[binary] = ballot_mask(vm.votes[:, binary], opts)
-    for kind, (cols, x) in answer_sets(vm.votes, sm, opts.abstain_as_position).items():
-        if kind == "binary":
-            continue
-        total, top = _mode_share(x.astype(np.float64), -1 if kind == "categorical" else None)
-        minority = np.where(total > 0, (total - top) / np.maximum(total, 1), 0.0)
-        k = total >= 2
-        if opts.drop_unanimous:
-            k &= minority > 0
-        if opts.lopsided > 0:
-            k &= minority >= opts.lopsided
-        keep[cols] = k
-    return keep
+def _category_codes(votes: np.ndarray, sm: ScaleMatrix, cols: np.ndarray, abstain: bool
+                    ) -> np.ndarray:
+    """Option labels as shared codes across ballots (same label → same category)."""
+    s = sm.scores[:, cols]
+    labels = np.full(s.shape, "", dtype=object)
+    for k, b in enumerate(np.flatnonzero(cols)):  # per ballot column, not per pair
+        opts = np.array(sm.options[b] or ("",), dtype=object)
+        have = ~np.isnan(s[:, k])
+        labels[have, k] = opts[np.clip(s[have, k].astype(int), 0, len(opts) - 1)]
+    if abstain:
+        labels[(votes[:, cols] == ABSTAIN) & np.isnan(s)] = "\x00abstain"
+    uniq, codes = np.unique(labels.astype(str), return_inverse=True)
+    codes = codes.reshape(s.shape).astype(np.int64)
+    blank = np.flatnonzero(uniq == "")
+    if blank.size:
+        codes = np.where(codes == blank[0], -1, codes - (codes > blank[0]))
+    return codes
 
 
-def filter_scored(vm, opts):
-    """Drop unanimous/lopsided ballots, then members who answered too few of the rest."""
-    vm = vm.subset(ballots=scored_ballot_mask(vm, opts))
-    cast = (vm.votes != MISSING).sum(axis=1)
-    needed = max(1, int(np.ceil(opts.min_share_cast * vm.votes.shape[1])))
-    keep = cast >= needed
-    return vm.subset(members=keep, dropped=int((~keep).sum()))
+def kind_columns(sm: ScaleMatrix | None, b: int) -> dict[str, np.ndarray]:
+    """Per kind: a boolean mask of the ballots (columns) of that kind."""
+    kinds = np.full(b, "binary", dtype=object) if sm is None else sm.kinds
+    return {k: np.asarray(kinds == k) for k in ("binary", "categorical", "ordinal",
+                                                 "continuous")}
+
+
+def answer_sets(votes: np.ndarray, sm: ScaleMatrix | None, abstain: bool) -> dict:
+    """Per kind: ``(columns, array)`` — level codes (binary, categorical) or positions."""
+    cols = kind_columns(sm, votes.shape[1])
+    out = {"binary": (cols["binary"], _binary_codes(votes[:, cols["binary"]], abstain))}
+    if sm is not None:
+        out["categorical"] = (cols["categorical"],
+                              _category_codes(votes, sm, cols["categorical"], abstain))
+        pos = sm.positions()
+        for k in ("ordinal", "continuous"):
+            out[k] = (cols[k], pos[:, cols[k]])
+    return {k: v for k, v in out.items() if v[0].any()}

@@ -1,77 +1,42 @@
-"""Agreement on periods with scored ballots: per-kind answer arrays, the combination rule,
-kappa, and the :class:`PeriodInput` the metrics read.
+"""Agreement on periods with scored ballots (or the chance-corrected measures): the
+combination rule, kappa, and the :class:`PeriodInput` the metrics read.
 
-The rules themselves are stated in :mod:`blocwatch.pipeline.build.scored`. ``sm`` below is a
-:class:`~blocwatch.pipeline.build.scored.ScaleMatrix` (or None for a yes/no period).
+**Combination rule** for a body mixing kinds (``--agreement match``, the default): the mean,
+over the ballots both members answered, of each ballot's agreement in [0, 1]:
+``a_ij = Σ_b w_b s_b(i, j) / Σ_b w_b``. On a yes/no body this is the usual share of shared
+ballots cast alike, so nothing changes there.
+
+**Chance-corrected** (``--agreement kappa``; ``kappa-quadratic``): per kind, Cohen's kappa
+(binary, categorical: unweighted; ordinal: linear or quadratic weights) and, for amounts,
+Pearson's r; a body mixing kinds takes their mean weighted by the shared ballots of each kind.
+These are signed, and negative weights break modularity's degree null model (see
+:func:`blocwatch.metrics.modularity.group_modularity`), so the
+graph gets **max(κ, 0)**: chance-level and worse-than-chance pairs get no tie, and 0 keeps its
+meaning "no affinity beyond chance". (κ + 1)/2 was rejected: it gives every chance-level pair
+weight ½ and brings back the compression of Q that dense graphs suffer.
+
+``sm`` below is a :class:`~blocwatch.pipeline.build.scored.ScaleMatrix` (or None for a yes/no
+period); the answers of each kind come from :func:`~blocwatch.pipeline.build.scored.answer_sets`.
 """
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
-
 import numpy as np
 
 from blocwatch.metrics.kappa import pairwise_kappa
-from blocwatch.metrics.registry import ABSTAIN, NO, YES, PeriodInput
-from blocwatch.metrics.scales import distance_counts, match_counts, nonnegative, pairwise_pearson
+from blocwatch.metrics.registry import PeriodInput
+from blocwatch.metrics.scales import (
+    distance_counts,
+    match_counts,
+    nonnegative,
+    pairwise_pearson,
+    ratio_matrix,
+)
 from blocwatch.pipeline.build.agreement import agreement_counts
+from blocwatch.pipeline.build.scored import answer_sets, kind_columns
 from blocwatch.pipeline.build.graphs import build_graph
-from blocwatch.pipeline.options import parse_rule
+from blocwatch.pipeline.options import AGREEMENT_MEASURES, parse_rule
 from blocwatch.pipeline.scales import ALPHA_LEVEL
-
-if TYPE_CHECKING:  # scored imports this module; the type is for readers only
-    from blocwatch.pipeline.build.scored import ScaleMatrix
-
-MEASURES = ("match", "kappa", "kappa-quadratic")
-
-
-# -- per-kind answer arrays ---------------------------------------------------------------------
-
-def _binary_codes(votes: np.ndarray, abstain: bool) -> np.ndarray:
-    codes = np.full(votes.shape, -1, dtype=np.int64)
-    codes[votes == YES], codes[votes == NO] = 0, 1
-    if abstain:
-        codes[votes == ABSTAIN] = 2
-    return codes
-
-
-def _category_codes(votes: np.ndarray, sm: ScaleMatrix, cols: np.ndarray, abstain: bool
-                    ) -> np.ndarray:
-    """Option labels as shared codes across ballots (same label → same category)."""
-    s = sm.scores[:, cols]
-    labels = np.full(s.shape, "", dtype=object)
-    for k, b in enumerate(np.flatnonzero(cols)):  # per ballot column, not per pair
-        opts = np.array(sm.options[b] or ("",), dtype=object)
-        have = ~np.isnan(s[:, k])
-        labels[have, k] = opts[np.clip(s[have, k].astype(int), 0, len(opts) - 1)]
-    if abstain:
-        labels[(votes[:, cols] == ABSTAIN) & np.isnan(s)] = "\x00abstain"
-    uniq, codes = np.unique(labels.astype(str), return_inverse=True)
-    codes = codes.reshape(s.shape).astype(np.int64)
-    blank = np.flatnonzero(uniq == "")
-    if blank.size:
-        codes = np.where(codes == blank[0], -1, codes - (codes > blank[0]))
-    return codes
-
-
-def _columns(sm: ScaleMatrix | None, b: int) -> dict[str, np.ndarray]:
-    kinds = np.full(b, "binary", dtype=object) if sm is None else sm.kinds
-    return {k: np.asarray(kinds == k) for k in ("binary", "categorical", "ordinal",
-                                                 "continuous")}
-
-
-def answer_sets(votes: np.ndarray, sm: ScaleMatrix | None, abstain: bool) -> dict:
-    """Per kind: ``(columns, array)`` — level codes (binary, categorical) or positions."""
-    cols = _columns(sm, votes.shape[1])
-    out = {"binary": (cols["binary"], _binary_codes(votes[:, cols["binary"]], abstain))}
-    if sm is not None:
-        out["categorical"] = (cols["categorical"],
-                              _category_codes(votes, sm, cols["categorical"], abstain))
-        pos = sm.positions()
-        for k in ("ordinal", "continuous"):
-            out[k] = (cols[k], pos[:, cols[k]])
-    return {k: v for k, v in out.items() if v[0].any()}
-
 
 # -- agreement ------------------------------------------------------------------------------------
 
@@ -150,14 +115,12 @@ def scored_agreement(votes, sm, opts, *, weights=None) -> tuple[np.ndarray, np.n
         num, defined = kappa_sums(votes, sm, abstain=abstain, weights=weights, ordinal=ordinal)
         shared = shared_counts(votes, sm, abstain=abstain, weights=weights)
     else:
-        raise ValueError(f"agreement measure: expected one of {', '.join(MEASURES)}, "
+        raise ValueError(f"agreement measure: expected one of {', '.join(AGREEMENT_MEASURES)}, "
                          f"received {measure!r}")
-    out = np.full(num.shape, np.nan)
-    ok = (shared >= max(opts.min_shared, 1)) & (defined > 0)
-    np.divide(num, defined, out=out, where=ok)
+    out = ratio_matrix(num, defined, shared=shared, min_shared=max(opts.min_shared, 1))
     if measure != "match":
         out = nonnegative(out, how="clip")
-    np.fill_diagonal(out, 1.0)
+        np.fill_diagonal(out, 1.0)
     return out, shared
 
 
@@ -184,7 +147,7 @@ def scored_period_input(votes, sm, labels, opts, seed: int, weights=None) -> Per
     """
     agreement, shared = scored_agreement(votes, sm, opts.agreement, weights=weights)
     graph = build_graph(agreement, labels, parse_rule(opts.rule))
-    binary = _columns(sm, votes.shape[1])["binary"]
+    binary = kind_columns(sm, votes.shape[1])["binary"]
     # Yes/no ballots only, for the families that read votes; None when there are none (a
     # scored panel), so those families say the vote matrix is not available.
     yes_no = votes[:, binary] if binary.any() or not votes.shape[1] else None

@@ -217,6 +217,18 @@ def export(store_path, table, fmt, body, out):
         click.echo(f"wrote {len(frame)} rows to {path}", err=True)
 
 
+@cli.command()
+@click.option("--format", "fmt", type=click.Choice(options.METRIC_LIST_FORMATS), default="text",
+              show_default=True, help="text: name, label, direction and reference in columns; "
+                                      "csv and json add family, description, formula and checks.")
+@handle_errors
+def metrics(fmt):
+    """List the measures with their labels, formulas and published references."""
+    from blocwatch.pipeline.report.metric_list import format_metric_list, metric_list
+
+    click.echo(format_metric_list(metric_list(), fmt), nl=False)
+
+
 def _write_report(store_path: Path, body: str | None, out: Path, periods: list[str] | None,
                   images: bool) -> list[Path]:
     """Stage: result frames from the store, then pages and pieces from the dashboards."""

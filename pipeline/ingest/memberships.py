@@ -1,4 +1,7 @@
-"""Group memberships of a load: roster spells, spells from a group column, and their checks.
+"""A load's memberships: which spells it writes, and the checks that tie them to its votes.
+
+The spells themselves (reading a roster, deriving spells from a group column, merging) are
+computed by :mod:`blocwatch.pipeline.ingest.roster`; this module decides among them for one load.
 
 Called by :mod:`blocwatch.pipeline.ingest.load` with the load in progress (``load``: its store,
 problems, staged files and options). Groups come from the roster when there is one (a group

@@ -1,4 +1,9 @@
-"""Group memberships: spells (member, group, valid_from, valid_to) from a roster or a votes file.
+"""Spells, the data: read from a roster, derived from a group column, and the arithmetic on them.
+
+A spell is (member, group, valid_from, valid_to). This module reads and derives spells and
+computes with them (overlaps, joining adjacent spells, merging a load's spells into the stored
+ones); it decides nothing about a load. Which spells a load writes, and the checks that tie them
+to its votes, are in :mod:`blocwatch.pipeline.ingest.memberships`.
 
 A roster (``--members FILE``) has one row per spell: ``member_id, name, group`` and optional
 ``valid_from`` / ``valid_to`` (inclusive ISO dates; blank means open-ended). A member who switched

@@ -1,4 +1,9 @@
-"""Reading results back: the export tables and the frames a report is drawn from."""
+"""The export tables of ``blocwatch export``: fixed columns read from the store, written as CSV,
+Parquet or JSON lines with text cells made safe for spreadsheets.
+
+What a report is drawn from (several tables, the pictured periods, provenance) is assembled in
+:mod:`blocwatch.pipeline.report.frames`, which reads the store through these tables.
+"""
 
 from __future__ import annotations
 
@@ -12,7 +17,8 @@ from blocwatch.pipeline.options import EXPORT_FORMATS, EXPORT_TABLES
 from blocwatch.pipeline.safety import neutralise_frame
 from blocwatch.pipeline.store.database import Store
 
-# Column order of each export (DESIGN.md: add columns at the end, never rename).
+# Column order of each export, a contract with users' scripts: add columns at the end, never
+# rename (README, "Commands").
 EXPORT_QUERIES = {
     "metrics": """
         SELECT pm.body, pm.period, p.period_start, p.period_end, pm.metric, pm.value, pm.low,
@@ -75,7 +81,8 @@ def write_frame(frame: pd.DataFrame, fmt: str, out: str | Path | None) -> Path |
 
 def network_edges(store: Store, body: str, periods: list[str], *, options) -> pd.DataFrame:
     """Agreement of every member pair with a value in the named periods (for network pictures)."""
-    from blocwatch.pipeline.build.compute import filter_period, period_input
+    from blocwatch.pipeline.build.compute import period_input
+    from blocwatch.pipeline.build.filters import filter_period
     from blocwatch.pipeline.build.matrices import load_votes
     from blocwatch.pipeline.options import Period
 

@@ -1,4 +1,8 @@
-"""The frames a report is drawn from, read from the store (the dashboards never open it)."""
+"""What a report is drawn from: the stored results of the chosen bodies and periods (through the
+export tables of :mod:`blocwatch.pipeline.report.export`), the periods worth a network picture,
+the metric list and provenance, as keyword arguments for ``ReportTables``. The dashboards never
+open the store; this module is the only way results reach them.
+"""
 
 from __future__ import annotations
 
@@ -11,6 +15,7 @@ from blocwatch.pipeline.build.planner import bodies as known_bodies
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.report.export import export_frame, network_edges
+from blocwatch.pipeline.report.metric_list import metric_list
 from blocwatch.pipeline.store.database import Store
 from blocwatch.pipeline.store.runs import tool_version
 
@@ -50,19 +55,6 @@ def network_periods(metrics, trends, body: str) -> list[str]:
     return list(dict.fromkeys(p for p in chosen if p in ordered))
 
 
-def measure_list() -> pd.DataFrame:
-    """The registered metrics with their methods reference, for the page's Methods section."""
-    import blocwatch.metrics  # noqa: F401  (registers every family)
-    from blocwatch.metrics.registry import metric_info, metric_names
-
-    rows = []
-    for name in metric_names():
-        info = metric_info(name)
-        rows.append({"metric": name, "label": info.label, "description": info.description,
-                     "formula": info.formula, "reference": info.reference})
-    return pd.DataFrame(rows)
-
-
 def report_frames(store: Store, *, body: str | None = None,
                   periods: list[str] | None = None) -> dict:
     """Every frame and the provenance a report needs, as keyword arguments for ReportTables."""
@@ -81,4 +73,4 @@ def report_frames(store: Store, *, body: str | None = None,
                   "parameters": opts.params()}
     return {"metrics": metrics, "members": members, "group_agreement": groups,
             "trends": trends, "edges": pd.concat(edges, ignore_index=True),
-            "measures": measure_list(), "provenance": provenance}
+            "measures": metric_list(), "provenance": provenance}

@@ -122,7 +122,8 @@ def period_stages(size: synth.Size, bootstrap: int, permutations: int, repeats: 
     from threadpoolctl import threadpool_limits
 
     from blocwatch.metrics import registry
-    from blocwatch.pipeline.build.compute import compute_period, filter_period, period_input
+    from blocwatch.pipeline.build.compute import compute_period, period_input
+    from blocwatch.pipeline.build.filters import filter_period
     from blocwatch.pipeline.build.graphs import build_graph
     from blocwatch.pipeline.build.matrices import VoteMatrix
     from blocwatch.pipeline.options import BuildOptions, Period, parse_rule

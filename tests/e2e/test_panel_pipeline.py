@@ -80,7 +80,7 @@ def test_panel_demo_end_to_end(run_cli, tmp_path, panel):
 def test_stored_agreement_is_one_minus_scaled_distance(run_cli, tmp_path, panel):
     """Read back from the store, a pair's agreement is the mean over shared proposals of
     1 − |a − b| / 8 [D, per-pair definition], computed here from the file itself."""
-    from blocwatch.pipeline.build.scored import scored_agreement
+    from blocwatch.pipeline.build.scored_agreement import scored_agreement
     from blocwatch.pipeline.options import AgreementOptions
 
     _ingest(tmp_path / "p.duckdb", panel.votes, members=panel.roster, body=panel.body)

@@ -12,7 +12,7 @@ from blocwatch.dashboards.briefing import build_briefing
 from blocwatch.dashboards.safe import esc
 from blocwatch.dashboards.tables import ReportTables
 from blocwatch.metrics.registry import metric_names
-from blocwatch.pipeline.report.frames import measure_list
+from blocwatch.pipeline.report.metric_list import metric_list
 
 BODY = "Harbour Board of Veldmark"
 
@@ -22,14 +22,14 @@ def _page() -> str:
     rows = [{"body": BODY, "period": str(p), "metric": m, "value": v,
              "period_start": f"{p}-01-01", "period_end": f"{p}-12-31"}
             for p, v in ((2001, 0.2), (2002, 0.3)) for m in names]
-    tables = ReportTables(metrics=pd.DataFrame(rows), measures=measure_list())
+    tables = ReportTables(metrics=pd.DataFrame(rows), measures=metric_list())
     html, _ = build_briefing(tables, BODY, colours=palette.group_colours([]))
     return html.split("<section id='methods'>", 1)[1].split("</section>", 1)[0]
 
 
 def test_every_registered_metric_is_described_on_the_page():
     section = _page()
-    listed = measure_list().set_index("metric")
+    listed = metric_list().set_index("metric")
     assert set(listed.index) == set(metric_names())
     for name in metric_names():
         r = listed.loc[name]
@@ -41,7 +41,7 @@ def test_every_registered_metric_is_described_on_the_page():
 
 
 def test_labels_are_words():
-    known = labels.catalogue(measure_list())
+    known = labels.catalogue(metric_list())
     for name in metric_names():
         label = labels.info(name, known).label
         assert "_" not in label and label != name, name
@@ -52,7 +52,7 @@ def test_labels_are_words():
 
 def test_directions_on_the_page_match_the_direction_given():
     section = _page()
-    known = labels.catalogue(measure_list())
+    known = labels.catalogue(metric_list())
     for name in metric_names():
         d = labels.info(name, known).direction
         entry = section.split(f"<code>{esc(name)}</code></dt>", 1)[1].split("</dd>", 1)[0]

@@ -1,41 +1,33 @@
-"""Agreement counts by one-hot matrix products, checked against METHODS §0 and a pair loop."""
+"""Agreement counts by one-hot matrix products, checked against the toy roll call's hand values
+(tests/toy_rollcall.py) and a pair loop; the filter rule on yes/no ballots."""
 
 from fractions import Fraction
 
 import numpy as np
 import pytest
 
-from blocwatch.pipeline.build.agreement import (
-    AgreementOptions,
-    agreement_counts,
-    agreement_matrix,
-    ballot_mask,
-)
+from blocwatch.pipeline.build.agreement import agreement_counts, agreement_matrix
+from blocwatch.pipeline.build.filters import ballot_mask
+from blocwatch.pipeline.options import AgreementOptions
+from tests import toy_rollcall as toy
 
 Y, N, A, X = 1, 2, 3, 0
-# METHODS §0 toy roll call: rows A1 A2 A3 B1 B2 B3, columns v1..v4.
-TOY = np.array([[Y, Y, Y, N], [Y, Y, Y, N], [Y, N, Y, N],
-                [N, N, Y, Y], [N, N, Y, Y], [N, N, Y, N]], dtype=np.int8)
+TOY = toy.VOTES
 
 
 def test_toy_roll_call_agreement_fractions():
-    """Hand values of METHODS §0 [D]."""
+    """Hand values of the toy roll call (derived by hand, tests/toy_rollcall.py)."""
     same, both = agreement_counts(TOY)
     a = agreement_matrix(same, both)
-    expected = {(0, 1): 1, (3, 4): 1, (0, 2): Fraction(3, 4), (1, 2): Fraction(3, 4),
-                (3, 5): Fraction(3, 4), (4, 5): Fraction(3, 4), (2, 5): Fraction(3, 4),
-                (0, 3): Fraction(1, 4), (0, 4): Fraction(1, 4), (1, 3): Fraction(1, 4),
-                (1, 4): Fraction(1, 4), (0, 5): Fraction(1, 2), (1, 5): Fraction(1, 2),
-                (2, 3): Fraction(1, 2), (2, 4): Fraction(1, 2)}
-    for (i, j), value in expected.items():
+    for (i, j), value in toy.AGREEMENT_PAIRS.items():
         assert a[i, j] == pytest.approx(float(value)), (i, j)
         assert a[j, i] == a[i, j]
 
 
 def test_unanimous_ballot_is_dropped_by_default():
-    """v3 is unanimous (METHODS §0): the default filter removes exactly that ballot."""
-    assert ballot_mask(TOY, AgreementOptions()).tolist() == [True, True, False, True]
-    assert ballot_mask(TOY, AgreementOptions(drop_unanimous=False)).all()
+    """v3 is unanimous (tests/toy_rollcall.py): the default filter removes exactly that ballot."""
+    assert ballot_mask(TOY, None, AgreementOptions()).tolist() == [True, True, False, True]
+    assert ballot_mask(TOY, None, AgreementOptions(drop_unanimous=False)).all()
 
 
 def _pair_loop(votes, positions):
@@ -84,5 +76,5 @@ def test_min_shared_leaves_pairs_without_value():
 def test_lopsided_filter():
     votes = np.array([[Y] * 4 + [N], [Y] * 5, [Y] * 5, [N] * 5], dtype=np.int8)
     # ballots 0..3: 3 yes 1 no (minority 1/4); ballot 4: 2 yes 2 no
-    keep = ballot_mask(votes, AgreementOptions(lopsided=0.3))
+    keep = ballot_mask(votes, None, AgreementOptions(lopsided=0.3))
     assert keep.tolist() == [False, False, False, False, True]

@@ -1,4 +1,5 @@
-"""Periods with scored ballots (pipeline/build/scored.py): the combination rule, kappa, filters."""
+"""Periods with scored ballots (build/scored.py, scored_agreement.py, filters.py): the
+combination rule, kappa, and the one filter rule on scored ballots."""
 
 import warnings
 from datetime import date
@@ -12,17 +13,12 @@ from blocwatch.pipeline.build.agreement import agreement_counts, agreement_matri
 from blocwatch.pipeline.options import AgreementOptions
 from blocwatch.pipeline.build.matrices import VoteMatrix
 from blocwatch.pipeline.options import Period
-from blocwatch.pipeline.build.scored import (
-    ScaleMatrix,
-    filter_scored,
-    scored_agreement,
-    scored_period_input,
-)
+from blocwatch.pipeline.build.filters import filter_period
+from blocwatch.pipeline.build.scored import ScaleMatrix
+from blocwatch.pipeline.build.scored_agreement import scored_agreement, scored_period_input
+from tests.toy_rollcall import VOTES as TOY
 
 Y, N, A, X = YES, NO, ABSTAIN, MISSING
-# METHODS §0 toy roll call: rows A1 A2 A3 B1 B2 B3, columns v1..v4.
-TOY = np.array([[Y, Y, Y, N], [Y, Y, Y, N], [Y, N, Y, N],
-                [N, N, Y, Y], [N, N, Y, Y], [N, N, Y, N]], dtype=np.int8)
 
 
 class Opts:  # the slice of BuildOptions that scored_period_input reads
@@ -71,8 +67,8 @@ def per_ballot(votes, sm, i, j):
 
 
 def test_yes_no_body_is_unchanged():
-    """With only yes/no ballots the rule is the share of shared ballots cast alike (METHODS
-    §0 [D]), identical to the yes/no products."""
+    """With only yes/no ballots the rule is the share of shared ballots cast alike (the toy
+    roll call's hand values, tests/toy_rollcall.py), identical to the yes/no products."""
     got, shared = scored_agreement(TOY, None, AgreementOptions(min_shared=1))
     same, both = agreement_counts(TOY)
     np.testing.assert_array_equal(got, agreement_matrix(same, both, min_shared=1))
@@ -103,7 +99,8 @@ def test_ordinal_distance_and_categorical_equality_in_the_pipeline():
 
 def test_kappa_measure_on_yes_no_is_clipped_cohen_kappa():
     """--agreement kappa: Cohen's kappa per pair [S: sklearn cohen_kappa_score], graph weight
-    max(κ, 0) (METHODS §1: no negative weights). A1–B3 κ = 0.2 (METHODS §0 [D])."""
+    max(κ, 0) (no negative weights: they break modularity's null model). A1–B3 κ = 0.2
+    (derived by hand, tests/toy_rollcall.py)."""
     got, _ = scored_agreement(TOY, None, AgreementOptions(min_shared=1, measure="kappa"))
     assert got[0, 5] == pytest.approx(0.2)
     with warnings.catch_warnings():
@@ -152,10 +149,10 @@ def test_filter_drops_unanimous_and_single_answer_scored_ballots():
     scores = np.array([[7, 3, 5, 1], [7, 4, nan, 2], [7, 5, nan, 3], [7, 3, nan, 4]])
     votes[1:, 2] = X
     sm = scales(["ordinal"] * 4, scores, low=[1] * 4, high=[9] * 4)
-    out = filter_scored(_vm(votes, sm), AgreementOptions(min_share_cast=0))
+    out = filter_period(_vm(votes, sm), AgreementOptions(min_share_cast=0))
     assert out.ballot_ids.tolist() == ["b1", "b3"]  # b0 unanimous, b2 a single answer
     assert out.scales.scores.shape == (4, 2)
-    kept = filter_scored(_vm(votes, sm), AgreementOptions(drop_unanimous=False,
+    kept = filter_period(_vm(votes, sm), AgreementOptions(drop_unanimous=False,
                                                           min_share_cast=0))
     assert kept.ballot_ids.tolist() == ["b0", "b1", "b3"]
 
