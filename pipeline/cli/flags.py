@@ -26,7 +26,8 @@ BUILD_SECTION = "build"
 OUTPUT_COMMANDS = ("report", "rebuild")  # their --out comes from top-level ``output``
 _NOT_CONFIGURABLE = ("store_path", "help", "config_path")
 # Flags that say what to do this time rather than how: never taken from the file.
-ACTIONS = {"rebuild": ("full",), "schedule": ("cron", "systemd_dir"), "ingest": ("check",)}
+ACTIONS = {"rebuild": ("full",), "schedule": ("cron", "systemd_dir"), "ingest": ("check",),
+           "remove-body": ("yes",)}
 
 
 def flag_key(param: click.Parameter) -> str:

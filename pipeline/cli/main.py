@@ -56,6 +56,16 @@ def store_option(func):
                         default=None, help=STORE_HELP)(func)
 
 
+def wait_option(func):
+    """``--wait SECONDS`` of the commands that only read the store."""
+    from blocwatch.pipeline.ops.readers import DEFAULT_WAIT
+
+    return click.option("--wait", type=click.FloatRange(min=0), default=DEFAULT_WAIT,
+                        show_default=True, metavar="SECONDS",
+                        help="Wait this long for a running rebuild or build to finish before "
+                             "giving up (exit 75).")(func)
+
+
 @click.group(cls=BlocwatchGroup, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(package_name="blocwatch")
 @click.option("--debug", is_flag=True, default=False, help="Show a traceback on errors.")
@@ -204,13 +214,14 @@ def build(ctx, store_path, body, jobs, executor, scheduler, partitions, **flags)
 @click.option("--body", default=None, help="Only this body.")
 @click.option("--out", type=click.Path(dir_okay=False), default=None,
               help="Output file (default: standard output; parquet needs a file).")
+@wait_option
 @handle_errors
-def export(store_path, table, fmt, body, out):
+def export(store_path, table, fmt, body, out, wait):
     """Export a results table (text cells safe to open in a spreadsheet)."""
+    from blocwatch.pipeline.ops.readers import reading_store
     from blocwatch.pipeline.report.export import export_frame, write_frame
-    from blocwatch.pipeline.store.database import Store
 
-    with Store(resolve_store(store_path), read_only=True) as store:
+    with reading_store(resolve_store(store_path), wait) as store:
         frame = export_frame(store, table, body=body)
     path = write_frame(frame, fmt, out)
     if path is not None:
@@ -230,14 +241,20 @@ def metrics(fmt):
 
 
 def _write_report(store_path: Path, body: str | None, out: Path, periods: list[str] | None,
-                  images: bool) -> list[Path]:
-    """Stage: result frames from the store, then pages and pieces from the dashboards."""
+                  images: bool, wait: float | None = None) -> list[Path]:
+    """Stage: result frames from the store, then pages and pieces from the dashboards.
+
+    ``wait``: seconds to wait for a run holding the store; None when this process holds the
+    lock itself (rebuild, demo) and opens the store directly."""
     from blocwatch.dashboards import ReportTables, write_report
     from blocwatch.pipeline.config import group_colours
+    from blocwatch.pipeline.ops.readers import reading_store
     from blocwatch.pipeline.report.frames import report_frames
     from blocwatch.pipeline.store.database import Store
 
-    with Store(store_path, read_only=True) as store:
+    opened = Store(store_path, read_only=True) if wait is None else \
+        reading_store(store_path, wait)
+    with opened as store:
         frames = report_frames(store, body=body, periods=periods)
     tables = ReportTables(**frames, colours=group_colours())
     return write_report(out, tables, periods=periods, images=images)
@@ -253,11 +270,12 @@ def _write_report(store_path: Path, body: str | None, out: Path, periods: list[s
                    "each change point).")
 @click.option("--images/--no-images", default=False, show_default=True,
               help="Also write PNG and SVG (needs Chromium or Chrome).")
+@wait_option
 @handle_errors
-def report(store_path, body, out, periods, images):
+def report(store_path, body, out, periods, images, wait):
     """Write the briefing pages, comparison page and embeddable pieces."""
     paths = _write_report(resolve_store(store_path), body, Path(out),
-                          periods.split(",") if periods else None, images)
+                          periods.split(",") if periods else None, images, wait)
     for path in paths:
         if path.suffix == ".html" and path.parent == Path(out):
             click.echo(f"page: {path}")
@@ -368,8 +386,9 @@ def rebuild(ctx, store_path, body, full, out, with_report, images, **flags):
 @click.option("--body", default=None, help="Only this body.")
 @click.option("--json", "as_json", is_flag=True, default=False, help="Print the status as JSON.")
 @build_flags
+@wait_option
 @handle_errors
-def status(store_path, body, as_json, **flags):
+def status(store_path, body, as_json, wait, **flags):
     """Bodies, periods, last ingest per body, stale periods, and the last run's outcome.
 
     Stale is judged against the build flags (from blocwatch.toml unless given).
@@ -377,7 +396,7 @@ def status(store_path, body, as_json, **flags):
     from blocwatch.pipeline.ops.status import status as store_status
 
     opts = options.build_options(**flags)
-    result = store_status(resolve_store(store_path), options=opts, body=body)
+    result = store_status(resolve_store(store_path), options=opts, body=body, wait=wait)
     click.echo(result.to_json() if as_json else "\n".join(result.lines()))
 
 
@@ -452,8 +471,11 @@ def ingest(files, store_path, body, members, layout, codes, ballots, columns, re
     from blocwatch.pipeline.errors import EXIT_BAD_INPUT
     from blocwatch.pipeline.ingest.load import ingest_files, ingest_store
     from blocwatch.pipeline.ingest.readers import parse_column_options
+    from blocwatch.pipeline.store.bodies import new_body_warnings
 
     with ingest_store(resolve_store(store_path), check_only=check) as store:
+        for line in new_body_warnings(store, body):
+            click.echo(f"warning: {line}", err=True)
         report = ingest_files(store, files, body=body, members=members, layout=layout,
                               codes=codes, replace=replace, columns=parse_column_options(columns),
                               ballots=ballots, check_only=check, scale=scale)
@@ -461,3 +483,12 @@ def ingest(files, store_path, body, members, layout, codes, ballots, columns, re
         click.echo(line)
     if check and report.problems:
         sys.exit(EXIT_BAD_INPUT)
+
+
+def _register_more_commands() -> None:
+    from blocwatch.pipeline.cli.body_commands import remove_body
+
+    cli.add_command(remove_body)
+
+
+_register_more_commands()

@@ -1,10 +1,11 @@
 """``blocwatch status``: what the store holds, what is stale, and how the last run ended.
 
-Reads only (the store is opened read-only and the lock is merely probed). While another run
-holds the lock the store cannot be opened (DuckDB allows one writing process and no readers
-beside it), so status then names the run in progress and stops there. A run row still marked
-``running`` while the lock is free belongs to a run that was killed: it is shown as
-``interrupted``.
+Reads only (the store is opened read-only). While another run holds the lock the store cannot
+be opened (DuckDB allows one writing process and no readers beside it): the CLI waits up to
+``--wait`` seconds (:mod:`blocwatch.pipeline.ops.readers`) and then exits 75 naming the run;
+library callers that pass no ``wait`` get the holder in :attr:`StatusReport.lock` instead. A
+run row still marked ``running`` while the lock is free belongs to a run that was killed: it is
+shown as ``interrupted``.
 """
 
 from __future__ import annotations
@@ -15,9 +16,12 @@ from pathlib import Path
 
 from blocwatch.pipeline.build.planner import stale_periods
 from blocwatch.pipeline.config import Config, active_config
+from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.ops.lock import describe, lock_holder
+from blocwatch.pipeline.ops.readers import reading_store, wait_for_store
 from blocwatch.pipeline.ops.rebuild import scan_sources
 from blocwatch.pipeline.options import BuildOptions
+from blocwatch.pipeline.store.bodies import close_matches
 from blocwatch.pipeline.store.database import Store
 
 
@@ -94,18 +98,26 @@ def _outcome(run: dict) -> str:
 
 
 def status(store_path: str | Path, *, options: BuildOptions | None = None,
-           config: Config | None = None, body: str | None = None) -> StatusReport:
-    """Gather the status of ``store_path`` under the given build options and config."""
+           config: Config | None = None, body: str | None = None,
+           wait: float | None = None) -> StatusReport:
+    """Gather the status of ``store_path`` under the given build options and config.
+
+    ``wait``: seconds to wait for a run holding the store, then raise
+    :class:`~blocwatch.pipeline.errors.LockHeldError` (the CLI's ``--wait``); None: do not
+    wait, and report the holder in :attr:`StatusReport.lock` instead.
+    """
     opts = options or BuildOptions()
     cfg = config or active_config()
     report = StatusReport(str(store_path), Path(store_path).exists())
+    if wait is not None and report.exists:
+        wait_for_store(store_path, wait)
     report.lock = lock_holder(store_path)
     if report.lock is not None:
         return report
     if not report.exists:
         report.bodies = _bodies(None, cfg, opts, body)
         return report
-    with Store(store_path, read_only=True) as store:
+    with reading_store(store_path, wait or 0.0) as store:
         report.bodies = _bodies(store, cfg, opts, body)
         rows = store.df("SELECT * FROM runs ORDER BY run_id")
     if not rows.empty:
@@ -135,7 +147,13 @@ def _bodies(store: Store | None, cfg: Config, opts: BuildOptions,
     names = list(cfg.bodies)
     if store is not None:
         names += [r[0] for r in store.rows("SELECT body FROM bodies ORDER BY body")]
-    names = [n for n in dict.fromkeys(names) if body is None or n == body]
+    names = list(dict.fromkeys(names))
+    if body is not None and body not in names:
+        near = close_matches(body, names)
+        hint = f"did you mean {near[0]!r}? " if near else ""
+        raise UsageError(f"body {body!r}", "is neither in the store nor in blocwatch.toml",
+                         f"{hint}known bodies: {', '.join(map(repr, names)) or 'none yet'}")
+    names = [n for n in names if body is None or n == body]
     out = {n: BodyStatus(n) for n in names}
     for src in scan_sources(store, cfg, body):
         if src.state != "loaded" and src.body in out:

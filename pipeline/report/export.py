@@ -15,6 +15,7 @@ import pandas as pd
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.options import EXPORT_FORMATS, EXPORT_TABLES
 from blocwatch.pipeline.safety import neutralise_frame
+from blocwatch.pipeline.store.bodies import require_body, require_results
 from blocwatch.pipeline.store.database import Store
 
 # Column order of each export, a contract with users' scripts: add columns at the end, never
@@ -53,6 +54,7 @@ def export_frame(store: Store, table: str, *, body: str | None = None) -> pd.Dat
     if table not in EXPORT_QUERIES:
         raise UsageError(f"table {table!r}", "is not exportable",
                          f"use one of: {', '.join(EXPORT_TABLES)}")
+    require_results(store, require_body(store, body))  # never an empty table without a word
     return store.df(EXPORT_QUERIES[table], [body, body])
 
 

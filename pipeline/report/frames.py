@@ -11,11 +11,11 @@ import json
 
 import pandas as pd
 
-from blocwatch.pipeline.build.planner import bodies as known_bodies
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.report.export import export_frame, network_edges
 from blocwatch.pipeline.report.metric_list import metric_list
+from blocwatch.pipeline.store.bodies import require_body, require_periods, require_results
 from blocwatch.pipeline.store.database import Store
 from blocwatch.pipeline.store.runs import tool_version
 
@@ -58,7 +58,10 @@ def network_periods(metrics, trends, body: str) -> list[str]:
 def report_frames(store: Store, *, body: str | None = None,
                   periods: list[str] | None = None) -> dict:
     """Every frame and the provenance a report needs, as keyword arguments for ReportTables."""
-    targets = known_bodies(store, body)
+    targets = require_body(store, body)
+    require_results(store, targets)
+    if periods:
+        require_periods(store, targets, periods)
     opts, run = last_build_options(store)
     metrics = export_frame(store, "metrics", body=body)
     members = export_frame(store, "members", body=body)

@@ -20,7 +20,7 @@ from typing import Any
 import duckdb
 import pandas as pd
 
-from blocwatch.pipeline.errors import BadInputError, StoreError
+from blocwatch.pipeline.errors import EXIT_LOCKED, BadInputError, StoreError
 
 SCHEMA_VERSION = 1
 DEFAULT_STORE = "blocwatch.duckdb"
@@ -187,7 +187,14 @@ class Store:
             Path(self.path).parent.mkdir(parents=True, exist_ok=True)
         try:
             self.con = duckdb.connect(self.path, read_only=read_only)
-        except duckdb.Error as exc:  # locked by another process, not a DuckDB file, ...
+        except duckdb.IOException as exc:
+            if "lock" not in str(exc).lower():
+                raise StoreError(f"store {self.path}", f"cannot be opened ({_first_line(exc)})",
+                                 "check the path and the file's permissions") from exc
+            # DuckDB's file lock: another process has the store open for writing
+            raise StoreBusyError(f"store {self.path}", "another program has it open for "
+                                 "writing", "wait for it to finish and try again") from exc
+        except duckdb.Error as exc:  # not a DuckDB file, ...
             raise StoreError(f"store {self.path}", f"cannot be opened ({exc})",
                              "check the path, and that no other program holds it open") from exc
         self._depth = 0
@@ -413,6 +420,12 @@ def check_stage(name: str) -> str:
         raise StoreError(f"staging table {name!r}", "is not a _bw_ name",
                          "use _bw_ followed by lower-case letters, digits and _")
     return name
+
+
+class StoreBusyError(StoreError):
+    """Another process holds DuckDB's lock on the store file (exit 75, like our own lock)."""
+
+    exit_code = EXIT_LOCKED
 
 
 class ReadError(BadInputError):

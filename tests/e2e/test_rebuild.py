@@ -140,9 +140,10 @@ def test_build_and_ingest_take_the_lock_too(built):
             proc = cli_here(*args, project=built)
             assert proc.returncode == EXIT_LOCKED, (args, proc.stderr)
             assert "'test-holder'" in proc.stderr and "pid " in proc.stderr
-        # status does not wait or fail: it names the holder
-        out = _ok(cli_here("status", project=built)).stdout
-        assert "held by a run in progress" in out and "'test-holder'" in out
+        # status, a reader, waits up to --wait seconds, then exits 75 naming the holder
+        proc = cli_here("status", "--wait", "0", project=built)
+        assert proc.returncode == EXIT_LOCKED, proc.stderr
+        assert "'test-holder'" in proc.stderr and "pass --wait SECONDS" in proc.stderr
 
 
 def _move_member(project):

@@ -17,7 +17,7 @@ def _commands_block() -> str:
 
 
 def test_readme_lists_every_command_and_no_other():
-    named = set(re.findall(r"^blocwatch (\w+)", _commands_block(), flags=re.M))
+    named = set(re.findall(r"^blocwatch ([\w-]+)", _commands_block(), flags=re.M))
     assert named == set(cli.commands), "README's Commands block and the CLI differ"
 
 

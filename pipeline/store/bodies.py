@@ -1,0 +1,112 @@
+"""Bodies and periods a command names: checked against the store, with a close match.
+
+A misspelt body must not quietly export an empty table or start a second body: every command
+that takes ``--body`` checks the name here, and the message lists what the store holds and
+suggests the nearest name (``difflib``'s ratio, cutoff 0.75: one or two letters apart in a
+typical body name). :func:`remove_body` takes a body and every row about it out of the store in
+one transaction.
+"""
+
+from __future__ import annotations
+
+import difflib
+
+from blocwatch.pipeline.errors import StoreError, UsageError
+from blocwatch.pipeline.store.database import Store
+
+CLOSE = 0.75  # difflib ratio at or above which two names are "close"
+# Tables with a body column, children first (the order rows are removed in).
+BODY_TABLES = ("trends", "group_agreement", "member_metrics", "period_metrics", "periods",
+               "ingests", "votes", "ballots", "memberships", "members", "bodies")
+
+
+def close_matches(name: str, names: list[str], n: int = 3) -> list[str]:
+    """Names in ``names`` close to ``name`` (case ignored), nearest first."""
+    lower = {x.lower(): x for x in names}
+    found = difflib.get_close_matches(name.lower(), list(lower), n=n, cutoff=CLOSE)
+    return [lower[x] for x in found if lower[x] != name]
+
+
+def _listing(names: list[str], limit: int = 8) -> str:
+    shown = ", ".join(repr(n) for n in names[:limit])
+    return shown + (f" and {len(names) - limit} more" if len(names) > limit else "")
+
+
+def stored_bodies(store: Store) -> list[str]:
+    return [r[0] for r in store.rows("SELECT body FROM bodies ORDER BY body")]
+
+
+def require_body(store: Store, body: str | None) -> list[str]:
+    """The bodies a reader works on: ``[body]`` if the store holds it, else every body.
+
+    Raises :class:`UsageError` for a name the store does not hold (exit 2), naming the close
+    match and what exists, and :class:`StoreError` when the store holds no body at all.
+    """
+    known = stored_bodies(store)
+    if not known:
+        raise StoreError("store", "holds no ballots yet",
+                         "load files with 'blocwatch ingest FILE --body NAME' (or 'blocwatch "
+                         "rebuild' with a blocwatch.toml), then 'blocwatch build'")
+    if body is None:
+        return known
+    if body in known:
+        return [body]
+    near = close_matches(body, known)
+    hint = f"did you mean {near[0]!r}? " if near else ""
+    raise UsageError(f"body {body!r}", "is not in the store",
+                     f"{hint}the store holds {_listing(known)}")
+
+
+def new_body_warnings(store: Store, body: str | None) -> list[str]:
+    """A new body whose name is close to a stored one is most likely a typo: say so."""
+    if body is None:
+        return []
+    known = stored_bodies(store)
+    if body in known:
+        return []
+    near = close_matches(body, known)
+    if not near:
+        return []
+    return [f"body {body!r} is new, but the store holds {near[0]!r}: if that is the same body, "
+            f"load with --body \"{near[0]}\" (or remove this one later with 'blocwatch "
+            f"remove-body \"{body}\" --yes')"]
+
+
+def require_results(store: Store, bodies: list[str]) -> None:
+    """Raise :class:`StoreError` unless some period of ``bodies`` has stored results."""
+    built = store.scalar("SELECT count(*) FROM periods WHERE list_contains(?, body)", [bodies])
+    if not built:
+        which = "the store" if len(bodies) != 1 else f"body {bodies[0]!r}"
+        raise StoreError(which, "has ballots but no results yet",
+                         "run 'blocwatch build' (or 'blocwatch rebuild') first")
+
+
+def require_periods(store: Store, bodies: list[str], periods: list[str]) -> None:
+    """Raise :class:`UsageError` for a named period no body in ``bodies`` has results for."""
+    known = [r[0] for r in store.rows(
+        "SELECT DISTINCT period FROM periods WHERE list_contains(?, body) ORDER BY period",
+        [bodies])]
+    for period in periods:
+        if period not in known:
+            near = close_matches(period, known, n=1)
+            hint = f"did you mean {near[0]!r}? " if near else ""
+            span = f"{known[0]} to {known[-1]}" if len(known) > 8 else _listing(known)
+            raise UsageError(f"period {period!r}", "has no stored results",
+                             f"{hint}built periods: {span}")
+
+
+def body_rows(store: Store, body: str) -> dict[str, int]:
+    """Rows about ``body`` in each table (what :func:`remove_body` would delete)."""
+    require_body(store, body)
+    return {t: int(store.scalar(f"SELECT count(*) FROM {t} WHERE body = ?", [body]))
+            for t in BODY_TABLES}
+
+
+def remove_body(store: Store, body: str) -> dict[str, int]:
+    """Delete ``body`` and every row about it (one transaction); return rows removed per
+    table. Runs and their parameters stay: they record what was done, not what is stored."""
+    removed = body_rows(store, body)
+    with store.transaction():
+        for table in BODY_TABLES:
+            store.execute(f"DELETE FROM {table} WHERE body = ?", [body])
+    return removed
