@@ -71,7 +71,8 @@ def pairwise_kappa(codes, *, weighting: str = "none", level_values=None,
 
     Examples
     --------
-    METHODS §0: A1 vs B3 on yes (0) / no (1), p_o = 1/2, p_e = 3/8, so κ = 0.2:
+    The toy roll call of tests/toy_rollcall.py, A1 vs B3 on yes (0) / no (1), p_o = 1/2,
+    p_e = 3/8, so κ = 0.2:
 
     >>> k = pairwise_kappa([[0, 0, 0, 1], [1, 1, 0, 1]])
     >>> round(float(k[0, 1]), 12)

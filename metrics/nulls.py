@@ -184,7 +184,8 @@ def expected_modularity(weights, labels, *, resolution: float = 1.0) -> float:
     References
     ----------
     Newman MEJ (2006). Modularity and community structure in networks. PNAS 103(23):8577–8582
-    (the degree null model whose label average this is); METHODS.md §6 for the derivation.
+    (the degree null model whose label average this is); the label average derived by hand
+    (tests/unit/metrics/test_nulls.py checks the sampler against it).
     """
     codes, k = normalise_labels(labels)
     w = check_adjacency(weights, n=codes.shape[0])

@@ -27,8 +27,10 @@ _NEWMAN = ("Newman MEJ (2004). Analysis of weighted networks. Phys. Rev. E 70:05
            "Newman MEJ (2006). Modularity and community structure in networks. PNAS 103:8577")
 _WAUGH = ("Waugh AS, Pei L, Fowler JH, Mucha PJ, Porter MA (2009). Party polarization in "
           "Congress: a network science approach. arXiv:0907.3509")
-_LOUVAIN = ("Blondel VD, Guillaume J-L, Lambiotte R, Lefebvre E (2008). Fast unfolding of "
-            "communities in large networks. J. Stat. Mech. P10008")
+_LEIDEN = ("Traag VA, Waltman L, van Eck NJ (2019). From Louvain to Leiden: guaranteeing "
+           "well-connected communities. Sci. Rep. 9:5233; Blondel VD, Guillaume J-L, Lambiotte R, "
+           "Lefebvre E (2008). Fast unfolding of communities in large networks. J. Stat. Mech. "
+           "P10008")
 _KS = ("Krackhardt D, Stern RN (1988). Informal networks and organizational crises. Social "
        "Psychology Quarterly 51(2):123–140")
 _RICE = ("Rice SA (1925). The behavior of legislative groups: a method of measurement. "
@@ -64,19 +66,19 @@ METRIC_INFO: dict[str, MetricInfo] = {
          f"four-ballot toy roll call → 1/14, 0.2 without its unanimous ballot [{_TOY}]")),
     "best_modularity": MetricInfo(
         "Best modularity",
-        "Modularity of the best split Louvain finds without looking at the groups: how "
-        "divided the body is along any lines. High even on random graphs, so read it beside "
-        "group modularity.",
-        "max over partitions c of Q(c), searched by Louvain (a lower bound on the maximum)",
-        f"{_LOUVAIN}; Guimerà R, Sales-Pardo M, Amaral LAN (2004). Phys. Rev. E 70:025101",
-        ("karate club, unweighted, exact maximum → 0.4197896120973046; Louvain reaches "
+        "Modularity of the best split the Leiden algorithm finds without looking at the groups: "
+        "how divided the body is along any lines. High even on random graphs, so read it "
+        "beside group modularity.",
+        "max over partitions c of Q(c), searched by Leiden (a lower bound on the maximum)",
+        f"{_LEIDEN}; Guimerà R, Sales-Pardo M, Amaral LAN (2004). Phys. Rev. E 70:025101",
+        ("karate club, unweighted, exact maximum → 0.4197896120973046; the search reaches "
          "≥ 0.41 [igraph's exact-optimum unit test; tests/unit/metrics/test_community.py]",)),
     "communities": MetricInfo(
         "Communities",
-        "Number of communities in the best split Louvain finds (isolated members count as "
+        "Number of communities in the best split Leiden finds (isolated members count as "
         "their own).",
-        "number of blocks of the Louvain partition",
-        _LOUVAIN,
+        "number of blocks of the Leiden partition",
+        _LEIDEN,
         ("networkx barbell_graph(3, 0) → 2 [doctest of blocwatch.metrics.community]",)),
     "community_group_ari": MetricInfo(
         "Community–group match",

@@ -302,7 +302,8 @@ def nonnegative(signed, *, how: str = "clip") -> np.ndarray:
     """Map a signed agreement (kappa, correlation) in [−1, 1] to a graph weight in [0, 1].
 
     ``clip``: max(s, 0) — chance-level and worse-than-chance pairs get no tie, so 0 keeps its
-    meaning "no affinity beyond chance" and modularity's null model stays valid (METHODS §1).
+    meaning "no affinity beyond chance" and modularity's degree null model stays valid (it
+    needs weights ≥ 0).
     ``shift``: (s + 1)/2 — keeps the order of negative values but gives chance-level pairs 1/2,
     which brings back the dense-graph compression of modularity. NaN stays NaN.
 

@@ -1,8 +1,9 @@
 """`blocwatch ingest` end to end: every format and layout, reloads, conflicts, --replace, --check.
 
-Expected votes: the toy roll call of METHODS §0 as fixtures/ingest/README.md tabulates it. Most
-tests run the click command in-process (``inproc``: same code, real DuckDB file, no interpreter
-start-up); those marked "installed command" go through the console script (``run_cli``).
+Expected votes: the toy roll call of tests/toy_rollcall.py, which the files of fixtures/ingest
+hold. Most tests run the click command in-process (``inproc``: same code, real DuckDB file, no
+interpreter start-up); those marked "installed command" go through the console script
+(``run_cli``).
 """
 
 import os
@@ -16,14 +17,14 @@ from click.testing import CliRunner
 
 from blocwatch.pipeline.cli.main import cli
 from blocwatch.pipeline.store.database import Store
+from tests import toy_rollcall as toy
 
 FIXTURES = Path(__file__).resolve().parents[2] / "fixtures" / "ingest"
-TOY = {  # METHODS §0 [D]: ballot -> votes of A1 A2 A3 B1 B2 B3
-    "v1": "YYYNNN", "v2": "YYNNNN", "v3": "YYYYYY", "v4": "NNNYYN"}
-MEMBERS = ["A1", "A2", "A3", "B1", "B2", "B3"]
+TOY = toy.TABLE  # ballot -> votes of A1 A2 A3 B1 B2 B3
+MEMBERS = toy.MEMBERS
 EXPECTED = {(b, m): ("yes" if v == "Y" else "no") for b, row in TOY.items()
             for m, v in zip(MEMBERS, row)}
-DATES = {"v1": "2020-03-02", "v2": "2020-03-09", "v3": "2020-03-16", "v4": "2020-03-23"}
+DATES = toy.DATES
 
 LOADS = {  # fixtures/ingest/README.md, "how to load"
     "long csv": ["toy_long.csv"],

@@ -1,6 +1,6 @@
-"""METHODS §0's toy roll call through the real pipeline: file → store → agreement → metrics."""
+"""The toy roll call (tests/toy_rollcall.py) through the real pipeline: file → store → agreement
+→ metrics, against the values derived by hand there."""
 
-import csv
 import io
 from datetime import date
 from fractions import Fraction
@@ -12,22 +12,14 @@ from blocwatch.pipeline.build.agreement import agreement_counts, agreement_matri
 from blocwatch.pipeline.build.matrices import load_votes
 from blocwatch.pipeline.build.periods import make_periods
 from blocwatch.pipeline.store.database import Store
+from tests import toy_rollcall as toy
 
-TABLE = {  # METHODS §0: ballot -> votes of A1 A2 A3 B1 B2 B3
-    "v1": "YYYNNN", "v2": "YYNNNN", "v3": "YYYYYY", "v4": "NNNYYN"}
-MEMBERS = ["A1", "A2", "A3", "B1", "B2", "B3"]
+MEMBERS = toy.MEMBERS
 
 
 @pytest.fixture
 def toy_files(tmp_path):
-    votes = tmp_path / "toy_votes.csv"
-    with votes.open("w", newline="") as fh:
-        w = csv.writer(fh)
-        w.writerow(["ballot_id", "date", "member_id", "vote", "group"])
-        for k, (ballot, row) in enumerate(TABLE.items()):
-            for member, code in zip(MEMBERS, row):
-                w.writerow([ballot, f"2020-03-0{k + 1}", member, code, member[0]])
-    return votes
+    return toy.write_csv(tmp_path / "toy_votes.csv")
 
 
 def _metrics(run_cli, tmp_path, *extra):
@@ -40,16 +32,16 @@ def _metrics(run_cli, tmp_path, *extra):
 
 def test_toy_roll_call_end_to_end(run_cli, tmp_path, toy_files):
     run_cli("ingest", toy_files, "--store", "toy.duckdb", "--body", "Toy", check=True)
-    # Agreement fractions as stored and read back (METHODS §0 [D]).
+    # Agreement fractions as stored and read back (derived by hand, tests/toy_rollcall.py).
     with Store(tmp_path / "toy.duckdb", read_only=True) as store:
-        period = make_periods("year", date(2020, 3, 1), date(2020, 3, 4))[0]
+        period = make_periods("year", date(2020, 3, 2), date(2020, 3, 23))[0]
         vm = load_votes(store, "Toy", period)
     assert list(vm.member_ids) == MEMBERS and list(vm.groups) == list("AAABBB")
     a = agreement_matrix(*agreement_counts(vm.votes))
     assert a[0, 1] == 1 and a[0, 2] == pytest.approx(0.75) and a[0, 3] == pytest.approx(0.25)
     assert a[0, 5] == pytest.approx(0.5) and a[2, 5] == pytest.approx(0.75)
 
-    # Weighted modularity of the group partition: 1/14 with v3, 0.2 without (METHODS §0 [D]).
+    # Weighted modularity of the group partition: 1/14 with v3, 0.2 without (derived by hand).
     with_v3 = _metrics(run_cli, tmp_path, "--keep-unanimous")
     assert with_v3["group_modularity"] == pytest.approx(float(Fraction(1, 14)))
     without_v3 = _metrics(run_cli, tmp_path)

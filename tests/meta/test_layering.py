@@ -1,4 +1,5 @@
-"""The one-way data flow of DESIGN.md, checked by parsing every module's imports with ``ast``."""
+"""The one-way data flow of DEVELOPERS.md ("Data flow"), checked by parsing every module's
+imports with ``ast``."""
 
 import ast
 from pathlib import Path

@@ -6,20 +6,13 @@ import pytest
 
 from blocwatch.metrics import bridges
 from blocwatch.metrics.modularity import group_modularity
+from tests import toy_rollcall as toy
 
 KARATE_G = nx.karate_club_graph()
 CLUB = np.array([d["club"] == "Officer" for _, d in KARATE_G.nodes(data=True)], dtype=int)
 
-# METHODS §0 [D] agreement values of the toy roll call (A1 A2 A3 B1 B2 B3).
-TOY_AGREEMENT = np.array([
-    [1, 1, .75, .25, .25, .5],
-    [1, 1, .75, .25, .25, .5],
-    [.75, .75, 1, .5, .5, .75],
-    [.25, .25, .5, 1, 1, .75],
-    [.25, .25, .5, 1, 1, .75],
-    [.5, .5, .75, .75, .75, 1],
-])
-TOY_LABELS = np.array([0, 0, 0, 1, 1, 1])
+# The toy roll call's agreement, derived by hand (tests/toy_rollcall.py).
+TOY_AGREEMENT, TOY_LABELS = toy.agreement(), toy.LABELS
 
 
 def test_cross_tie_share_totals_match_networkx_coverage():
@@ -40,7 +33,7 @@ def test_cross_tie_share_isolated_member_is_nan():
 
 
 def test_participation_extremes():
-    # METHODS §2 [D]: all weight in own group → 0; even split over K groups → 1 − 1/K.
+    # derived by hand: all weight in own group → 0; even split over K groups → 1 − 1/K.
     k = 3
     w = np.zeros((4, 4))
     w[0, 1:] = w[1:, 0] = 1.0  # member 0 (group 0) tied once into each of 3 groups
@@ -60,7 +53,8 @@ def test_participation_hand_value():
 
 
 def test_super_cooperators_on_toy():
-    # METHODS §0 [D]: same-group values 1, 3/4, 3/4 (twice) → median 3/4; the only cross pair
+    # derived by hand (tests/toy_rollcall.py): same-group values 1, 3/4, 3/4 (twice) → median
+    # 3/4; the only cross pair
     # at ≥ 3/4 is A3–B3.
     assert bridges.within_group_median(TOY_AGREEMENT, TOY_LABELS) == 0.75
     assert bridges.super_cooperators(TOY_AGREEMENT, TOY_LABELS).tolist() == [0, 0, 1, 0, 0, 1]

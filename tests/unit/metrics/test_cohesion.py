@@ -1,4 +1,5 @@
-"""Cohesion indices against the hand values of METHODS §0 and §3."""
+"""Cohesion indices against hand-derived values: the toy roll call (tests/toy_rollcall.py) and
+worked Agreement Index counts."""
 
 from fractions import Fraction
 
@@ -8,16 +9,14 @@ from sklearn.metrics import cohen_kappa_score
 
 from blocwatch.metrics import cohesion
 from blocwatch.metrics.registry import ABSTAIN, MISSING, NO, YES, PeriodInput
+from tests import toy_rollcall as toy
 
 Y, N, A, M = YES, NO, ABSTAIN, MISSING
-# METHODS §0 toy roll call: rows A1 A2 A3 B1 B2 B3, columns v1..v4.
-TOY = np.array([[Y, Y, Y, N], [Y, Y, Y, N], [Y, N, Y, N],
-                [N, N, Y, Y], [N, N, Y, Y], [N, N, Y, N]], dtype=np.int8)
-TOY_LABELS = np.array([0, 0, 0, 1, 1, 1])
+TOY, TOY_LABELS = toy.VOTES, toy.LABELS
 
 
 def _agreement(votes):
-    """Share of both-cast ballots with the same choice (test-local, mirrors METHODS §0)."""
+    """Share of both-cast ballots with the same choice (test-local; tests/toy_rollcall.py)."""
     cast = votes != M
     both = cast[:, None, :] & cast[None, :, :]
     same = both & (votes[:, None, :] == votes[None, :, :])
@@ -31,29 +30,31 @@ def _group(counts):
 
 
 def test_toy_rice_of_a_is_five_sixths():
-    # METHODS §0 [D]: per ballot 1, 1/3, 1, 1 → mean 5/6.
+    # derived by hand (tests/toy_rollcall.py): per ballot 1, 1/3, 1, 1 → mean 5/6.
     assert cohesion.rice_index(TOY, TOY_LABELS)[0] == pytest.approx(float(Fraction(5, 6)))
 
 
 def test_toy_agreement_index_of_a_on_v2():
-    # METHODS §0 [D]: A on v2 is 2 yes, 1 no → AI 0.5.
+    # derived by hand (tests/toy_rollcall.py): A on v2 is 2 yes, 1 no → AI 0.5.
     assert cohesion.agreement_index(TOY[:, [1]], TOY_LABELS)[0] == pytest.approx(0.5)
 
 
 def test_toy_group_line_ballots_three_of_four():
-    # METHODS §0 [D]: v1, v2, v4 are group-line ballots.
+    # derived by hand (tests/toy_rollcall.py): v1, v2, v4 are group-line ballots.
     assert cohesion.group_line_ballots(TOY, TOY_LABELS).tolist() == [True, True, False, True]
 
 
 def test_toy_loyalty_of_a3_is_two_thirds():
-    # METHODS §0 [D]: A3 votes with A's majority on 2 of the 3 group-line ballots.
+    # derived by hand (tests/toy_rollcall.py): A3 votes with A's majority on 2 of the 3
+    # group-line ballots.
     loyal = cohesion.loyalty(TOY, TOY_LABELS)
     assert loyal[2] == pytest.approx(2 / 3)
     assert loyal[0] == loyal[1] == 1.0
 
 
 def test_toy_kappa_a1_b3_matches_sklearn():
-    # METHODS §0 [D] κ = 0.2, confirmed with sklearn.metrics.cohen_kappa_score.
+    # derived by hand (tests/toy_rollcall.py): κ = 0.2, confirmed with
+    # sklearn.metrics.cohen_kappa_score.
     assert cohen_kappa_score(TOY[0], TOY[5]) == pytest.approx(0.2)
 
 
@@ -61,13 +62,13 @@ def test_toy_kappa_a1_b3_matches_sklearn():
     ((10, 0, 0), 1.0), ((4, 4, 4), 0.0), ((6, 3, 1), 0.4), ((7, 3, 0), 0.55),
 ])
 def test_agreement_index_worked_numbers(counts, expected):
-    # METHODS §3 [D] worked numbers for the Hix–Noury–Roland AI.
+    # derived by hand: worked numbers for the Hix–Noury–Roland AI.
     votes, labels = _group(counts)
     assert cohesion.agreement_index(votes, labels)[0] == pytest.approx(expected)
 
 
 def test_agreement_index_two_option_floor_is_a_quarter():
-    # METHODS §3 [D]: with yes/no only, an even split gives 1/4.
+    # derived by hand: with yes/no only, an even split gives 1/4.
     votes, labels = _group((5, 5, 0))
     assert cohesion.agreement_index(votes, labels)[0] == pytest.approx(0.25)
 
@@ -98,7 +99,8 @@ def test_loyalty_nan_without_group_line_ballot():
 
 
 def test_group_agreement_matrix_on_toy():
-    # METHODS §0 [D] pair values: within A (1 + 3/4 + 3/4)/3 = 5/6, same for B;
+    # derived by hand (tests/toy_rollcall.py) pair values: within A (1 + 3/4 + 3/4)/3 = 5/6,
+    # same for B;
     # between: (4·1/4 + 4·1/2 + 3/4)/9 = 5/12.
     mean, pairs = cohesion.group_agreement_matrix(_agreement(TOY), TOY_LABELS)
     np.testing.assert_allclose(mean, [[5 / 6, 5 / 12], [5 / 12, 5 / 6]])
@@ -127,7 +129,7 @@ def _inp(votes, labels):
 
 
 def test_family_on_toy():
-    # METHODS §0 [D]: both groups have Rice 5/6; group-line share 3/4;
+    # derived by hand (tests/toy_rollcall.py): both groups have Rice 5/6; group-line share 3/4;
     # loyalty: A3 and B3 2/3, the rest 1 → mean 8/9.
     out = cohesion._cohesion_family(_inp(TOY, TOY_LABELS))
     assert out["rice_mean"].value == pytest.approx(5 / 6)

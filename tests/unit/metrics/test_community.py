@@ -17,12 +17,12 @@ from blocwatch.metrics.modularity import group_modularity
 
 KARATE = nx.karate_club_graph()
 CLUB = [KARATE.nodes[u]["club"] for u in KARATE]
-# METHODS §1 [S: igraph exact-optimum unit test]: max Q of the unweighted karate club
+# [igraph's exact-optimum unit test]: max Q of the unweighted karate club
 KARATE_MAX_Q = {1.0: 0.4197896120973046, 2.0: 0.16452991452991447, 0.5: 0.6217948717948718}
 
 
 def test_karate_reaches_041():
-    # METHODS §1: Louvain depends on seed and version; assert Q >= 0.41, never a partition.
+    # Louvain depends on seed and version; assert Q >= 0.41, never a partition.
     qs = np.array([best_modularity(KARATE, seed=s, weight=None) for s in range(10)])
     assert np.median(qs) >= 0.41
     assert (qs <= KARATE_MAX_Q[1.0] + 1e-12).all()  # no heuristic beats the exact optimum
@@ -33,7 +33,7 @@ def test_karate_reaches_041():
 @pytest.mark.parametrize("gamma", [0.5, 2.0])
 def test_karate_resolution_never_beats_optimum(gamma):
     qs = [best_modularity(KARATE, seed=s, weight=None, resolution=gamma) for s in range(5)]
-    assert max(qs) <= KARATE_MAX_Q[gamma] + 1e-12  # METHODS §1 [S: igraph unit test]
+    assert max(qs) <= KARATE_MAX_Q[gamma] + 1e-12  # [igraph's exact-optimum unit test]
     assert max(qs) >= 0.95 * KARATE_MAX_Q[gamma]
 
 

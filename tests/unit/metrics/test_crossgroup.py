@@ -14,19 +14,8 @@ from blocwatch.metrics.crossgroup import (
     ei_index,
     same_group_pair_share,
 )
-
-# METHODS §0 toy roll call: rows A1 A2 A3 B1 B2 B3, columns v1..v4 (1 = yes, 0 = no).
-TOY = np.array([[1, 1, 1, 0], [1, 1, 1, 0], [1, 0, 1, 0],
-                [0, 0, 1, 1], [0, 0, 1, 1], [0, 0, 1, 0]])
-TOY_GROUPS = ["A", "A", "A", "B", "B", "B"]
-
-
-def toy_weights(drop=()):
-    v = np.delete(TOY, list(drop), axis=1)
-    w = (v[:, None, :] == v[None, :, :]).mean(axis=2)
-    np.fill_diagonal(w, 0.0)
-    return w
-
+from tests.toy_rollcall import GROUPS as TOY_GROUPS
+from tests.toy_rollcall import agreement_weights as toy_weights
 
 KARATE = nx.karate_club_graph()
 KARATE_A = nx.to_numpy_array(KARATE, weight=None)
@@ -34,13 +23,15 @@ CLUB = [KARATE.nodes[u]["club"] for u in KARATE]
 
 
 def test_karate_ei_and_share():
-    assert ei_index(KARATE_A, CLUB) == pytest.approx((11 - 67) / 78)  # METHODS §2 [D]
-    assert ei_index(KARATE_A, CLUB) == pytest.approx(-0.717949, abs=1e-6)  # METHODS §2 [D]
+    # derived by hand from networkx partition_quality (coverage 67/78)
+    assert ei_index(KARATE_A, CLUB) == pytest.approx((11 - 67) / 78)
+    assert ei_index(KARATE_A, CLUB) == pytest.approx(-0.717949, abs=1e-6)
     parts = [{u for u in KARATE if KARATE.nodes[u]["club"] == c} for c in set(CLUB)]
     coverage, _ = nx.community.partition_quality(KARATE, parts)  # [S: networkx] 67/78
     assert coverage == pytest.approx(67 / 78)
     assert cross_group_share(KARATE_A, CLUB) == pytest.approx(1 - coverage)
-    assert cross_group_share(KARATE_A, CLUB) == pytest.approx(11 / 78)  # METHODS §2
+    # [networkx partition_quality: coverage 67/78]
+    assert cross_group_share(KARATE_A, CLUB) == pytest.approx(11 / 78)
 
 
 def test_unweighted_ignores_weight_values():
@@ -50,7 +41,7 @@ def test_unweighted_ignores_weight_values():
 
 
 def test_toy_weighted_ei():
-    # METHODS §0 [D]: weighted E–I -1/7 with v3, -0.4 without
+    # derived by hand (tests/toy_rollcall.py): weighted E–I -1/7 with v3, -0.4 without
     assert ei_index(toy_weights(), TOY_GROUPS, weighted=True) == pytest.approx(-1 / 7)
     assert ei_index(toy_weights(drop=[2]), TOY_GROUPS, weighted=True) == pytest.approx(-0.4)
 
@@ -67,7 +58,7 @@ def test_toy_thresholded_share_and_ratio():
 
 @pytest.mark.parametrize("seed", range(3))
 def test_expected_share_under_random_labels_is_one_minus_pi(seed):
-    # METHODS §2 [D]: under random labels with fixed sizes E[EI] = 1 - 2 pi, so the mean
+    # derived by hand: under random labels with fixed sizes E[EI] = 1 - 2 pi, so the mean
     # cross share over every relabelling is 1 - pi and the mean ratio is 1. Exact enumeration.
     rng = np.random.default_rng(seed)
     a = np.triu(rng.random((6, 6)) < 0.5, 1).astype(float)

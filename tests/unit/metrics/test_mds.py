@@ -15,7 +15,8 @@ def blocks_agreement(h):
 
 @pytest.mark.parametrize("h", [2, 3, 5])
 def test_two_blocks_at_plus_minus_half(h):
-    # METHODS §4 [D]: every member at ±1/2, lambda_1 = n/4, other lambda = 0
+    # derived by hand (Torgerson 1952 double centring): every member at ±1/2, lambda_1 = n/4,
+    # other lambda = 0
     n = 2 * h
     x, lam = classical_mds(agreement_distances(blocks_agreement(h)), 3,
                            return_eigenvalues=True)

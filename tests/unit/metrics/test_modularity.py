@@ -1,4 +1,5 @@
-"""group_modularity / modularity_graph against networkx and the METHODS.md check values."""
+"""group_modularity / modularity_graph against networkx, published check values and the toy
+roll call's hand values (tests/toy_rollcall.py)."""
 
 import networkx as nx
 import numpy as np
@@ -6,19 +7,8 @@ import pytest
 
 from blocwatch.metrics import PeriodInput
 from blocwatch.metrics.modularity import _family, group_modularity, modularity_graph
-
-# METHODS §0 toy roll call: rows A1 A2 A3 B1 B2 B3, columns v1..v4 (1 = yes, 0 = no).
-TOY = np.array([[1, 1, 1, 0], [1, 1, 1, 0], [1, 0, 1, 0],
-                [0, 0, 1, 1], [0, 0, 1, 1], [0, 0, 1, 0]])
-TOY_GROUPS = ["A", "A", "A", "B", "B", "B"]
-
-
-def toy_weights(drop=()):
-    """Agreement = share of ballots with the same choice, zero diagonal (everyone present)."""
-    v = np.delete(TOY, list(drop), axis=1)
-    w = (v[:, None, :] == v[None, :, :]).mean(axis=2)
-    np.fill_diagonal(w, 0.0)
-    return w
+from tests.toy_rollcall import GROUPS as TOY_GROUPS
+from tests.toy_rollcall import agreement_weights as toy_weights
 
 
 def karate():
@@ -29,14 +19,14 @@ def karate():
 def test_karate_unweighted():
     g, club = karate()
     w = nx.to_numpy_array(g, weight=None)
-    # METHODS §1 [S: networkx 3.6.1]
+    # [networkx 3.6.1, computed]
     assert group_modularity(w, club) == pytest.approx(0.3582347140039448, abs=1e-12)
 
 
 def test_karate_weighted():
     g, club = karate()
     w = nx.to_numpy_array(g, weight="weight")
-    # METHODS §1 [S: networkx 3.6.1]
+    # [networkx 3.6.1, computed]
     assert group_modularity(w, club) == pytest.approx(0.39143756676224206, abs=1e-12)
 
 
@@ -51,7 +41,7 @@ def test_karate_graph_form_matches_networkx():
 
 
 def test_karate_faction_split():
-    # METHODS §1 [S: two public test suites; D]: Zachary's 16/18 split (node 8 with the
+    # [two public test suites; also derived by hand]: Zachary's 16/18 split (node 8 with the
     # officer side), unweighted -> 565/1521
     g, club = karate()
     hi = {u for u in g if club[u] == "Mr. Hi"} - {8}
@@ -70,12 +60,12 @@ def test_barbell():
 
 def test_k4_split_and_one_community():
     w = nx.to_numpy_array(nx.complete_graph(4))
-    assert group_modularity(w, [0, 0, 1, 1]) == pytest.approx(-1 / 6)  # METHODS §1 [D]
-    assert group_modularity(w, [0, 0, 0, 0]) == pytest.approx(0.0, abs=1e-15)  # METHODS §1 [D]
+    assert group_modularity(w, [0, 0, 1, 1]) == pytest.approx(-1 / 6)  # derived by hand
+    assert group_modularity(w, [0, 0, 0, 0]) == pytest.approx(0.0, abs=1e-15)  # derived by hand
 
 
 def test_two_blocks_formula():
-    # METHODS §1 [D]: Q = (h-1)w / ((h-1)w + h b) - 1/2; h=5, w=0.9, b=0.3 -> 0.205882
+    # derived by hand: Q = (h-1)w / ((h-1)w + h b) - 1/2; h=5, w=0.9, b=0.3 -> 0.205882
     h, win, b = 5, 0.9, 0.3
     w = np.full((2 * h, 2 * h), b)
     w[:h, :h] = w[h:, h:] = win
@@ -86,13 +76,14 @@ def test_two_blocks_formula():
 
 
 def test_toy_roll_call():
-    assert group_modularity(toy_weights(), TOY_GROUPS) == pytest.approx(1 / 14)  # METHODS §0 [D]
-    # METHODS §0 [D], without v3
+    # derived by hand (tests/toy_rollcall.py)
+    assert group_modularity(toy_weights(), TOY_GROUPS) == pytest.approx(1 / 14)
+    # derived by hand (tests/toy_rollcall.py), without v3
     assert group_modularity(toy_weights(drop=[2]), TOY_GROUPS) == pytest.approx(0.2)
 
 
 def test_toy_agreement_values():
-    # METHODS §0 [D]: the agreement table the two values above rest on
+    # derived by hand (tests/toy_rollcall.py): the agreement table the two values above rest on
     w = toy_weights()
     assert w[0, 1] == w[3, 4] == 1.0
     assert w[2, 5] == 0.75 and w[0, 3] == 0.25 and w[0, 5] == 0.5

@@ -1,4 +1,5 @@
-"""Label-permutation nulls: the sampler against the exact expectation of METHODS §6."""
+"""Label-permutation nulls: the sampler against the exact expectation of Q under random labels,
+E[Q] = −(1 − π) Σ_i k_i² / (2m)² (derived by hand; see metrics/nulls.py)."""
 
 import itertools
 import math
@@ -15,7 +16,7 @@ SPLIT_16_18 = np.array([0] * 16 + [1] * 18)
 
 
 def test_expected_modularity_karate_16_18():
-    # METHODS §6 [D]: karate, unweighted, random 16/18 labels → E[Q] = −0.025567.
+    # derived by hand: karate, unweighted, random 16/18 labels → E[Q] = −0.025567.
     assert nulls.expected_modularity(KARATE, SPLIT_16_18) == pytest.approx(-0.025567, abs=5e-7)
 
 
@@ -34,7 +35,7 @@ def test_expected_modularity_equals_brute_force_enumeration(resolution):
 
 
 def test_permutation_mean_converges_to_exact_expectation():
-    # METHODS §6: the permutation mean must converge to E[Q]. With N draws the sampling error
+    # the permutation mean must converge to E[Q]. With N draws the sampling error
     # of the mean has sd σ/√N; 4 σ/√N fails a correct sampler with probability < 1e-4.
     n_perm = 5000
     r = nulls.modularity_permutation_null(KARATE, SPLIT_16_18, n_perm=n_perm, seed=11)
@@ -64,7 +65,7 @@ def test_batched_modularity_chunks_agree(monkeypatch):
 
 
 def test_observed_club_split_is_far_in_the_tail():
-    # [S: networkx 3.6.1 computed, METHODS §1] club split Q = 0.3582; no random 17/17 split
+    # [networkx 3.6.1, computed] club split Q = 0.3582; no random 17/17 split
     # comes near it, so p is the Phipson–Smyth floor 1/(N + 1).
     club = np.array([d["club"] == "Officer" for _, d in nx.karate_club_graph().nodes(data=True)])
     r = nulls.modularity_permutation_null(KARATE, club.astype(int), n_perm=999, seed=0)

@@ -1,5 +1,5 @@
 """Agreement per kind of answer (metrics/scales.py, metrics/kappa.py) against scikit-learn,
-scipy, METHODS.md values and direct per-pair definitions."""
+scipy, hand-derived values and direct per-pair definitions."""
 
 import warnings
 from fractions import Fraction
@@ -65,7 +65,8 @@ def test_ordinal_weighted_kappa_equals_sklearn(weighting, seed):
 
 
 def test_kappa_methods_values():
-    """METHODS §0 [D]: A1 vs B3 κ = 0.2; METHODS §3 [D]: yes 7/10 vs 6/10, yes-yes 5,
+    """Derived by hand: A1 vs B3 of the toy roll call κ = 0.2 (tests/toy_rollcall.py); yes 7/10
+    vs 6/10, yes-yes 5,
     no-no 2 → κ = 0.347826 (= 8/23)."""
     toy = pairwise_kappa([[0, 0, 0, 1], [1, 1, 0, 1]])  # A1, B3 on v1..v4 (0 = yes, 1 = no)
     assert toy[0, 1] == pytest.approx(0.2, abs=1e-12)
@@ -194,7 +195,8 @@ def test_pearson_degenerate():
 # -- signed weights -----------------------------------------------------------------------------
 
 def test_nonnegative_transforms():
-    """METHODS §1: signed weights must not reach modularity; clip or shift, both in [0, 1]."""
+    """Signed weights must not reach modularity (its degree null model needs weights ≥ 0);
+    clip or shift, both in [0, 1]."""
     s = np.array([-1.0, -0.2, 0.0, 0.5, 1.0, np.nan])
     clip, shift = nonnegative(s), nonnegative(s, how="shift")
     np.testing.assert_allclose(clip[:5], [0, 0, 0, 0.5, 1])

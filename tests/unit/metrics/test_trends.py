@@ -1,4 +1,4 @@
-"""Mann–Kendall, Theil–Sen and PELT against METHODS §6 and scipy."""
+"""Mann–Kendall, Theil–Sen and PELT against hand-derived values, scipy and ruptures."""
 
 import math
 
@@ -10,7 +10,7 @@ from blocwatch.metrics import trends
 
 
 def test_mann_kendall_methods_series():
-    # METHODS §6 [D]: x = 1..5 → S = 10, Var S = 50/3, Z = 2.2045, p ≈ 0.0275, τ = 1.
+    # derived by hand: x = 1..5 → S = 10, Var S = 50/3, Z = 2.2045, p ≈ 0.0275, τ = 1.
     r = trends.mann_kendall([1, 2, 3, 4, 5])
     assert r.s == 10 and r.var_s == pytest.approx(50 / 3)
     assert r.z == pytest.approx(2.2045, abs=1e-4) and r.p == pytest.approx(0.0275, abs=1e-4)
@@ -43,7 +43,7 @@ def test_mann_kendall_degenerate():
 
 
 def test_theil_sen_methods_series_and_scipy():
-    # METHODS §6 [D]: slope 1 on x = 1..5; and equal to scipy.stats.theilslopes on noise.
+    # derived by hand: slope 1 on x = 1..5; and equal to scipy.stats.theilslopes on noise.
     assert trends.theil_sen([1, 2, 3, 4, 5], [1, 2, 3, 4, 5]).slope == 1.0
     rng = np.random.default_rng(5)
     x = np.arange(2000, 2015, dtype=float)
@@ -56,7 +56,7 @@ def test_theil_sen_methods_series_and_scipy():
 
 
 def test_pelt_finds_the_step():
-    # METHODS §6 [D]: [0]*10 + [5]*10 with pen = 1 → [10, 20]; the default rule agrees.
+    # derived by hand: [0]*10 + [5]*10 with pen = 1 → [10, 20]; the default rule agrees.
     y = [0] * 10 + [5] * 10
     assert trends.change_points(y, penalty=1) == [10, 20]
     assert trends.change_points(y) == [10, 20]
@@ -70,7 +70,7 @@ def test_pelt_degenerate_series():
 
 
 def test_default_penalty_rule():
-    # 2σ̂² log n with σ̂ = normal-consistent MAD of differences / √2 [S: METHODS §6 rule].
+    # 2σ̂² log n with σ̂ = normal-consistent MAD of differences / √2 [common practice, from memory].
     y = np.array([1.0, 1.4, 0.7, 1.1, 0.8, 1.3, 0.9])
     sigma = stats.median_abs_deviation(np.diff(y), scale="normal") / math.sqrt(2)
     assert trends.default_penalty(y) == pytest.approx(2 * sigma**2 * math.log(7))

@@ -1,7 +1,7 @@
 """The agreement kernel's fast routes give the exact counts of the plain definition.
 
 References are computed here from the definition (float64 pair counts over repeated ballot
-columns: a bootstrap weight w is the ballot drawn w times, METHODS §6), never from the kernel.
+columns: a bootstrap weight w is the ballot drawn w times), never from the kernel.
 """
 
 import numpy as np

@@ -40,7 +40,7 @@ def test_second_holder_is_refused_with_pid_and_start_time(tmp_path):
         assert f"pid {proc.pid}" in message
         assert "started 20" in message and "UTC" in message
         assert "'holder-test'" in message
-        assert info.value.exit_code == EXIT_LOCKED == 75  # DESIGN.md exit codes
+        assert info.value.exit_code == EXIT_LOCKED == 75  # README "Commands": exit codes
         holder = lock_holder(store)
         assert holder is not None and holder["pid"] == proc.pid
     finally:

@@ -100,7 +100,7 @@ def test_units_have_persistent_timer_and_accept_lock_exit(project):
     service, timer = units["blocwatch-rebuild.service"], units["blocwatch-rebuild.timer"]
     assert "Persistent=true" in timer.splitlines()
     assert "OnCalendar=Mon *-*-* 04:05:00" in timer.splitlines()
-    assert "SuccessExitStatus=75" in service.splitlines()  # DESIGN.md: 75 = lock held
+    assert "SuccessExitStatus=75" in service.splitlines()  # README "Commands": 75 = lock held
     assert "Type=oneshot" in service.splitlines()
     assert f'--config "{project.resolve()}/blocwatch.toml" rebuild' in service
     with pytest.raises(UsageError, match="unit name"):
