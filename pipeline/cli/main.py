@@ -100,6 +100,18 @@ def main(argv: list[str] | None = None) -> None:
         raise
 
 
+def _source(ctx: click.Context, name: str) -> str:
+    """Where a flag's value came from, in words (for messages about settings)."""
+    from blocwatch.pipeline.config import active_config
+
+    where = ctx.get_parameter_source(name)
+    if where == click.core.ParameterSource.COMMANDLINE:
+        return "from the command line"
+    if where == click.core.ParameterSource.DEFAULT_MAP:
+        return f"from {active_config().path or 'blocwatch.toml'}"
+    return "the default"
+
+
 def resolve_store(store_path: str | None) -> Path:
     from blocwatch.pipeline.config import default_store_path
 
@@ -387,16 +399,19 @@ def rebuild(ctx, store_path, body, full, out, with_report, images, **flags):
 @click.option("--json", "as_json", is_flag=True, default=False, help="Print the status as JSON.")
 @build_flags
 @wait_option
+@click.pass_context
 @handle_errors
-def status(store_path, body, as_json, wait, **flags):
+def status(ctx, store_path, body, as_json, wait, **flags):
     """Bodies, periods, last ingest per body, stale periods, and the last run's outcome.
 
-    Stale is judged against the build flags (from blocwatch.toml unless given).
+    Stale is judged against the build flags (from blocwatch.toml unless given); settings that
+    differ from the last build's are named with both values.
     """
     from blocwatch.pipeline.ops.status import status as store_status
 
     opts = options.build_options(**flags)
-    result = store_status(resolve_store(store_path), options=opts, body=body, wait=wait)
+    result = store_status(resolve_store(store_path), options=opts, body=body, wait=wait,
+                          sources={name: _source(ctx, name) for name in flags})
     click.echo(result.to_json() if as_json else "\n".join(result.lines()))
 
 

@@ -20,9 +20,12 @@ from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.ops.lock import describe, lock_holder
 from blocwatch.pipeline.ops.readers import reading_store, wait_for_store
 from blocwatch.pipeline.ops.rebuild import scan_sources
+from blocwatch.pipeline.ops.settings import settings_changes
 from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.store.bodies import close_matches
 from blocwatch.pipeline.store.database import Store
+
+BUILD_COMMANDS = ("build", "rebuild", "demo")  # runs that write results
 
 
 @dataclass
@@ -46,6 +49,8 @@ class StatusReport:
     bodies: list[BodyStatus] = field(default_factory=list)
     last_run: dict | None = None
     interrupted_runs: list[int] = field(default_factory=list)
+    # the last finished build's run id and command, and each setting that differs now
+    settings: dict | None = None
 
     def to_json(self) -> str:
         return json.dumps(asdict(self), indent=2, default=str)
@@ -79,6 +84,13 @@ class StatusReport:
                 out.append("  stale: " + ", ".join(f"{p or 'trends'} ({r})" for p, r in b.stale))
             elif b.periods and not b.pending_files:
                 out.append("  stale: none (up to date)")
+        if self.settings and self.settings["changes"]:
+            st = self.settings
+            out.append(f"settings: differ from run {st['run_id']} ({st['command']}), which "
+                       "computed the stored results — " + "; ".join(
+                           c["text"] for c in st["changes"]))
+            out.append("  stale periods above are judged with the settings now; give the old "
+                       "values (flags, or [build] in blocwatch.toml) to compare with the store")
         if self.last_run:
             r = self.last_run
             out.append(f"last run: {r['run_id']} {r['command']} started {r['started']}, "
@@ -99,12 +111,14 @@ def _outcome(run: dict) -> str:
 
 def status(store_path: str | Path, *, options: BuildOptions | None = None,
            config: Config | None = None, body: str | None = None,
-           wait: float | None = None) -> StatusReport:
+           wait: float | None = None, sources: dict[str, str] | None = None) -> StatusReport:
     """Gather the status of ``store_path`` under the given build options and config.
 
     ``wait``: seconds to wait for a run holding the store, then raise
     :class:`~blocwatch.pipeline.errors.LockHeldError` (the CLI's ``--wait``); None: do not
-    wait, and report the holder in :attr:`StatusReport.lock` instead.
+    wait, and report the holder in :attr:`StatusReport.lock` instead. ``sources``: where
+    each build option's value came from (click parameter name -> text), for
+    :attr:`StatusReport.settings`.
     """
     opts = options or BuildOptions()
     cfg = config or active_config()
@@ -120,6 +134,7 @@ def status(store_path: str | Path, *, options: BuildOptions | None = None,
     with reading_store(store_path, wait or 0.0) as store:
         report.bodies = _bodies(store, cfg, opts, body)
         rows = store.df("SELECT * FROM runs ORDER BY run_id")
+    report.settings = _settings(rows, opts, sources, body)
     if not rows.empty:
         runs = rows.to_dict("records")
         # The lock is free, so no run is in progress: a 'running' row is one that was killed.
@@ -133,6 +148,20 @@ def status(store_path: str | Path, *, options: BuildOptions | None = None,
         last["recomputed"] = json.loads(done) if isinstance(done, str) and done else []
         report.last_run = {k: (None if _missing(v) else v) for k, v in last.items()}
     return report
+
+
+def _settings(runs, opts: BuildOptions, sources: dict | None, body: str | None) -> dict | None:
+    """The newest finished build (of ``body``, or of every body) and how its settings differ
+    from ``opts``."""
+    done = runs[(runs["status"] == "ok") & runs["command"].isin(BUILD_COMMANDS)] \
+        if not runs.empty else runs
+    for _, run in done.iloc[::-1].iterrows():
+        params = json.loads(run["params"])
+        if body is None or params.get("body") in (None, body):
+            changes = settings_changes(params, opts, sources)
+            return {"run_id": int(run["run_id"]), "command": run["command"],
+                    "changes": [{**asdict(c), "text": c.text()} for c in changes]}
+    return None
 
 
 def _missing(value) -> bool:
