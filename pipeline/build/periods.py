@@ -30,12 +30,18 @@ def _years(first: date, last: date, month: int) -> list[Period]:
 
 
 def _rolling(first: date, last: date, length: int, step: int) -> list[Period]:
+    """Windows of ``length`` months every ``step`` months that end at the data: every window
+    that fits before the end of the last ballot's month, then — if ballots come after the last
+    full window — one window cut short at that month, named ``… (partial)`` so that it is
+    never read as a full window (it holds fewer months of ballots)."""
+    data_end = _month_add(date(last.year, last.month, 1), 1) - timedelta(days=1)
     out = []
     start = date(first.year, first.month, 1)
-    while start <= last:
-        end = _month_add(start, length) - timedelta(days=1)
+    while (end := _month_add(start, length) - timedelta(days=1)) <= data_end:
         out.append(Period(start, end, f"{start:%Y-%m}..{end:%Y-%m}"))
         start = _month_add(start, step)
+    if not out or out[-1].end < last:  # ``start`` is a step after the last full window
+        out.append(Period(start, data_end, f"{start:%Y-%m}..{data_end:%Y-%m} (partial)"))
     return out
 
 

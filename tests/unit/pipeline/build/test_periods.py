@@ -23,13 +23,28 @@ def test_year_starting_in_month():
         ("2002/03", date(2002, 9, 1), date(2003, 8, 31))]
 
 
-def test_rolling_windows():
+def test_rolling_windows_end_at_the_data():
+    # data from 2020-01 to 2024-09; 12-month windows every 6 months
+    ps = make_periods("rolling:12m:6m", date(2020, 1, 5), date(2024, 9, 10))
+    full = [p for p in ps if not p.name.endswith("(partial)")]
+    assert [p.name for p in full][-2:] == ["2023-01..2023-12", "2023-07..2024-06"]
+    assert all(p.end <= date(2024, 9, 30) for p in ps)  # no window runs past the data
+    # the ballots after the last full window: one window cut short at the data, marked
+    assert (ps[-1].name, ps[-1].start, ps[-1].end) == (
+        "2024-01..2024-09 (partial)", date(2024, 1, 1), date(2024, 9, 30))
+    # every ballot date falls in some window
+    assert ps[0].start <= date(2020, 1, 5) and ps[-1].end >= date(2024, 9, 10)
+
+
+def test_rolling_windows_that_fit_have_no_partial_tail():
+    ps = make_periods("rolling:12m:12m", date(2020, 1, 5), date(2022, 12, 10))
+    assert [p.name for p in ps] == ["2020-01..2020-12", "2021-01..2021-12", "2022-01..2022-12"]
+
+
+def test_data_shorter_than_one_window_is_one_partial_window():
     ps = make_periods("rolling:24m:12m", date(2001, 5, 3), date(2003, 2, 1))
-    assert [(p.start, p.end) for p in ps] == [
-        (date(2001, 5, 1), date(2003, 4, 30)), (date(2002, 5, 1), date(2004, 4, 30))]
-    assert ps[0].name == "2001-05..2003-04"
-    assert make_periods("rolling:1y:6m", date(2001, 1, 1), date(2001, 2, 1))[0].end == \
-        date(2001, 12, 31)
+    assert [(p.name, p.start, p.end) for p in ps] == [
+        ("2001-05..2003-02 (partial)", date(2001, 5, 1), date(2003, 2, 28))]
 
 
 def test_terms(tmp_path):
