@@ -27,6 +27,8 @@ class BuildReport:
     periods: list[tuple[str, str]] = field(default_factory=list)  # (body, period) computed
     skipped: list[tuple[str, str]] = field(default_factory=list)  # unchanged, not recomputed
     seconds: dict[tuple[str, str], float] = field(default_factory=dict)
+    # stored periods the period spec no longer produces, whose results this run dropped
+    removed: list[tuple[str, str]] = field(default_factory=list)
 
 
 @contextlib.contextmanager
@@ -155,6 +157,7 @@ def build(store: Store, *, body: str | None = None, options: BuildOptions | None
             jobs = _to_compute(store, plan, opts, version, only_changed, names, report)
             for res, seconds in pool.map(PeriodJob(opts, version), jobs):
                 store_result(store, report, res, seconds, progress)
+            report.removed += [(b, p) for p in plan.removed]  # said by the CLI, not silent
             drop_stale_periods(store, b, [p.name for p in plan.periods])
             write_trends(store, report.run_id, b)
     return report

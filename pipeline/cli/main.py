@@ -215,6 +215,17 @@ def build(ctx, store_path, body, jobs, executor, scheduler, partitions, **flags)
             report = run_build(store, body=body, options=opts,
                                progress=_progress(ctx, "build"), executor=where)
     click.echo(f"run {report.run_id}: {len(report.periods)} period(s) computed")
+    _say_removed(report, opts.period)
+
+
+def _say_removed(report, period: str) -> None:
+    """Stored results a build dropped because its period spec no longer produces them."""
+    if report.removed:
+        names = ", ".join(f"{b} {p}" for b, p in report.removed[:6])
+        more = f" and {len(report.removed) - 6} more" if len(report.removed) > 6 else ""
+        click.echo(f"note: removed the stored results of {len(report.removed)} period(s) that "
+                   f"--period {period} does not produce ({names}{more}); the store keeps one "
+                   f"period spec's results", err=True)
 
 
 @cli.command()
@@ -388,6 +399,8 @@ def rebuild(ctx, store_path, body, full, out, with_report, images, **flags):
         click.echo(f"loaded: {src.path} ({src.state})")
     for note in result.notes:
         click.echo(f"note: {note}", err=True)
+    if result.build is not None:
+        _say_removed(result.build, opts.period)
     click.echo(result.summary())
     if result.outputs:
         click.echo(f"wrote {len(result.outputs)} file(s) to {out_dir}")

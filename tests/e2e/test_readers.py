@@ -160,3 +160,13 @@ def test_a_close_new_body_warns_and_remove_body_takes_it_out_whole(run_cli, stor
         {k: v for k, v in before.items() if k != "runs"}
     with Store(store, read_only=True) as s:
         assert s.scalar("SELECT count(*) FROM bodies WHERE body = 'Toy Counci'") == 0
+
+
+def test_another_period_spec_says_which_stored_results_it_replaced(run_cli, store):
+    proc = run_cli("build", "--period", "rolling:1m:1m", "--bootstrap", "0",
+                   "--permutations", "0")
+    assert proc.returncode == 0, proc.stderr
+    assert ("note: removed the stored results of 1 period(s) that --period rolling:1m:1m does "
+            "not produce (Toy Council 2020)") in proc.stderr
+    with Store(store, read_only=True) as s:
+        assert [r[0] for r in s.rows("SELECT period FROM periods")] == ["2020-03..2020-03"]
