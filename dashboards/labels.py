@@ -162,7 +162,7 @@ def ordered(metrics) -> list[str]:
 
 
 # First words that are names, kept capitalised inside a sentence.
-_PROPER = {"Rice", "Krippendorff's", "Louvain"}
+_PROPER = {"Rice", "Krippendorff's", "Louvain", "Leiden"}
 
 
 def in_sentence(label: str) -> str:

@@ -38,7 +38,7 @@ DEFAULT_RULE = "weighted"
 DEFAULT_SEED = 20240601
 DEFAULT_BOOTSTRAP = 200
 DEFAULT_PERMUTATIONS = 200
-# Replicates and permutations for families marked expensive (Louvain, CV fits, IRT): each call
+# Replicates and permutations for families marked expensive (Leiden, CV fits, IRT): each call
 # costs milliseconds, so they get this many at most.
 DEFAULT_EXPENSIVE_REPLICATES = 40
 DEFAULT_MIN_SHARED = 5

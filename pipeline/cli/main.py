@@ -147,7 +147,7 @@ def build_flags(func):
         click.option("--rule", default=DEFAULT_RULE, show_default=True,
                      help="Graph rule: weighted, threshold:X, equal-likelihood."),
         click.option("--seed", type=int, default=DEFAULT_SEED, show_default=True,
-                     help="Seed for every random step (Louvain, CV, bootstrap, nulls)."),
+                     help="Seed for every random step (Leiden, CV, bootstrap, nulls)."),
         click.option("--bootstrap", type=click.IntRange(min=0), default=DEFAULT_BOOTSTRAP,
                      show_default=True, help="Ballot-bootstrap replicates (0: no intervals)."),
         click.option("--permutations", type=click.IntRange(min=0),
@@ -156,7 +156,7 @@ def build_flags(func):
         click.option("--expensive-replicates", type=click.IntRange(min=0),
                      default=DEFAULT_EXPENSIVE_REPLICATES, show_default=True,
                      help="At most this many replicates and permutations for costly metrics "
-                          "(Louvain, cross-validated fits, ideal points)."),
+                          "(Leiden communities, cross-validated fits, ideal points)."),
         click.option("--abstain-as-position", is_flag=True, default=False,
                      help="Count abstain as a third position (default: like an absence)."),
         click.option("--min-shared", type=click.IntRange(min=1), default=DEFAULT_MIN_SHARED,
