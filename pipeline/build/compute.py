@@ -52,6 +52,8 @@ def fingerprint(vm: VoteMatrix, opts: BuildOptions, version: str) -> str:
         h.update("\x1f".join(map(str, arr)).encode())
         h.update(b"\x1e")
     h.update(np.ascontiguousarray(vm.votes).tobytes())
+    if vm.topics is not None:  # only bodies with topics: others keep their stored fingerprints
+        h.update(b"topics\x1e" + "\x1f".join(map(str, vm.topics)).encode())
     if vm.scales is not None:  # scored ballots: their scales and answers
         h.update(vm.scales.digest())
     h.update(json.dumps(opts.params(), sort_keys=True, default=str).encode())

@@ -34,6 +34,9 @@ class VoteMatrix:
     # Scales and scored answers (blocwatch.pipeline.build.scored.ScaleMatrix); None when every
     # ballot of the period is yes/no.
     scales: object = None
+    # (b,) str topic of each ballot or '' (per-topic and agenda-standardised series); None
+    # when no ballot of the period has one.
+    topics: np.ndarray | None = None
 
     @property
     def labels(self) -> np.ndarray:
@@ -49,9 +52,10 @@ class VoteMatrix:
         m = slice(None) if members is None else members
         b = slice(None) if ballots is None else ballots
         scales = None if self.scales is None else self.scales.subset(m, b)
+        topics = None if self.topics is None else self.topics[b]
         return VoteMatrix(self.body, self.period, self.member_ids[m], self.names[m],
                           self.groups[m], self.ballot_ids[b], self.items[b],
-                          self.votes[m][:, b], self.dropped + dropped, scales)
+                          self.votes[m][:, b], self.dropped + dropped, scales, topics)
 
 
 def ballot_date_range(store: Store, body: str) -> tuple | None:
@@ -64,7 +68,8 @@ def load_votes(store: Store, body: str, period: Period) -> VoteMatrix:
     """The period's vote matrix, every member with a group and at least one row in it."""
     params = [body, period.start, period.end]
     votes = store.df(
-        """SELECT v.member_id, v.ballot_id, v.choice, coalesce(b.item, '') AS item, b.held_on
+        """SELECT v.member_id, v.ballot_id, v.choice, coalesce(b.item, '') AS item,
+                  coalesce(b.topic, '') AS topic, b.held_on
            FROM votes v JOIN ballots b ON b.body = v.body AND b.ballot_id = v.ballot_id
            WHERE v.body = ? AND b.held_on BETWEEN ? AND ?
            ORDER BY b.held_on, v.ballot_id""", params)
@@ -95,7 +100,9 @@ def _assemble(body: str, period: Period, votes: pd.DataFrame, groups: pd.DataFra
     members = np.sort(all_members[keep]).astype(object)
     dropped = int((~keep).sum())
     votes = votes[votes["member_id"].isin(set(members))]
-    ballot_order = votes.drop_duplicates("ballot_id")[["ballot_id", "item"]]
+    ballot_order = votes.drop_duplicates("ballot_id")[["ballot_id", "item", "topic"]
+                                                      if "topic" in votes else
+                                                      ["ballot_id", "item"]]
     ballots = ballot_order["ballot_id"].to_numpy(dtype=object)
     m_index = pd.Index(members).get_indexer(votes["member_id"])
     b_index = pd.Index(ballots).get_indexer(votes["ballot_id"])
@@ -104,6 +111,8 @@ def _assemble(body: str, period: Period, votes: pd.DataFrame, groups: pd.DataFra
     matrix[m_index, b_index] = codes
     name_map = names.set_index("member_id")["name"]
     member_names = np.array([str(name_map.get(m, m)) for m in members], dtype=object)
+    topics = ballot_order["topic"].to_numpy(dtype=object) if "topic" in ballot_order else None
     return VoteMatrix(body, period, members, member_names,
                       with_group.reindex(members).to_numpy(dtype=object), ballots,
-                      ballot_order["item"].to_numpy(dtype=object), matrix, dropped)
+                      ballot_order["item"].to_numpy(dtype=object), matrix, dropped,
+                      topics=topics if topics is not None and any(topics) else None)

@@ -64,7 +64,8 @@ def matrix_frame(vm: VoteMatrix, held_on) -> pd.DataFrame:
         "member_id": np.repeat(vm.member_ids, b), "name": np.repeat(vm.names, b),
         "group": np.repeat(vm.groups, b), "ballot_id": np.tile(vm.ballot_ids, n),
         "item": np.tile(vm.items, n), "held_on": np.tile(np.asarray(held_on), n),
-        "choice": pd.Series(vm.votes.ravel()).map(_CHOICES).to_numpy(object)})
+        "choice": pd.Series(vm.votes.ravel()).map(_CHOICES).to_numpy(object),
+        **({} if vm.topics is None else {"topic": np.tile(vm.topics, n)})})
 
 
 def write_vote_partitions(store, root: str | Path, *, period_spec: str = "year",
@@ -102,7 +103,9 @@ def read_partition(folder: str | Path, body: str, period_name: str) -> VoteMatri
                             f"write the columns {', '.join(VOTE_COLUMNS)}")
     frame["held_on"] = pd.to_datetime(frame["held_on"]).dt.date
     frame["item"] = frame["item"].fillna("").astype(str)
-    ballots = (frame.drop_duplicates("ballot_id")[["ballot_id", "item", "held_on"]]
+    # An optional topic column (ballot topics) rides along with the ballots.
+    frame["topic"] = frame["topic"].fillna("").astype(str) if "topic" in frame else ""
+    ballots = (frame.drop_duplicates("ballot_id")[["ballot_id", "item", "topic", "held_on"]]
                .sort_values(["held_on", "ballot_id"], kind="stable"))
     members = frame.drop_duplicates("member_id").sort_values("member_id")
     m_index = pd.Index(members["member_id"]).get_indexer(frame["member_id"])
@@ -119,7 +122,9 @@ def read_partition(folder: str | Path, body: str, period_name: str) -> VoteMatri
                       members["name"].astype(str).to_numpy(object),
                       members["group"].astype(str).to_numpy(object),
                       ballots["ballot_id"].to_numpy(object), ballots["item"].to_numpy(object),
-                      votes, int(meta.get("dropped", 0)))
+                      votes, int(meta.get("dropped", 0)),
+                      topics=ballots["topic"].to_numpy(object) if any(ballots["topic"])
+                      else None)
 
 
 def write_result(res, folder: str | Path) -> Path:

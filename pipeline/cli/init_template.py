@@ -69,8 +69,8 @@ def _body(name: str | None) -> list[str]:
         "whose content changed since it was loaded replaces that file's votes. Keys: sources "
         "(globs), members (roster file), layout (long or wide), codes (mapping file, or a table "
         "of spelling = choice), columns (a table of field = your column, fields ballot, date, "
-        "member, vote, group, name, title, item), ballots (ballots file for the wide layout), "
-        "replace (true: a new file may also overwrite stored votes it contradicts), scale "
+        "member, vote, group, name, title, item, topic), ballots (ballots file for the wide "
+        "layout), replace (true: a new file may also overwrite stored votes it contradicts), scale "
         "(of ballots that declare none, as ingest --scale)."
     )]
     body = [

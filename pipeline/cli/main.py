@@ -479,11 +479,11 @@ def schedule(cron, systemd_dir, project, when, at, name, user):
 @click.option("--codes", type=click.Path(dir_okay=False), default=None,
               help="Extra vote codes: CSV with columns raw,choice (choice: yes/no/abstain/absent).")
 @click.option("--ballots", type=click.Path(dir_okay=False), default=None,
-              help="Ballot dates and titles: ballot_id, held_on[, title, item].")
+              help="Ballot dates and titles: ballot_id, held_on[, title, item, topic].")
 @click.option("--column", "columns", multiple=True, metavar="FIELD=HEADER",
               help="Read FIELD from the column HEADER, e.g. --column member=MP_ID (repeatable; "
-                   "fields: body ballot date member vote group name title item valid_from "
-                   "valid_to).")
+                   "fields: body ballot date member vote group name title item topic "
+                   "valid_from valid_to).")
 @click.option("--replace", is_flag=True, default=False,
               help="Let the files overwrite stored ballots, votes and memberships they "
                    "contradict (default: a conflict is an error).")

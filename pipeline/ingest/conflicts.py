@@ -85,13 +85,13 @@ def reduce_ballots(store: Store, staged, k: int, problems: Problems) -> str:
     """``_bw_b{k}``: distinct ballots of a staged votes or ballots file; two dates are a problem."""
     table = f"_bw_b{k}"
     store.stage(table, f"""
-        SELECT body, ballot_id, held_on, TRY_CAST(held_on AS DATE) AS day, title, item,
+        SELECT body, ballot_id, held_on, TRY_CAST(held_on AS DATE) AS day, title, item, topic,
                min(rid) AS rid, count(*) AS n, CAST({k} AS INTEGER) AS k
         FROM {staged.table} WHERE body IS NOT NULL AND ballot_id IS NOT NULL
-        GROUP BY body, ballot_id, held_on, title, item""")
+        GROUP BY body, ballot_id, held_on, title, item, topic""")
     # Dates compare as dates (2020-2-3 = 2020-02-03); unparseable ones were reported already.
     for col, key, word in (("held_on", "day", "dates"), ("title", "title", "titles"),
-                           ("item", "item", "agenda items")):
+                           ("item", "item", "agenda items"), ("topic", "topic", "topics")):
         rows = store.rows(f"""
             SELECT ballot_id, list({col} ORDER BY rid) FILTER (WHERE {key} IS NOT NULL),
                    list({key} ORDER BY rid) FILTER (WHERE {key} IS NOT NULL),
@@ -168,8 +168,10 @@ def resolve_ballots(store: Store, vote_ballots: list[str], file_ballots: str | N
     if not parts:
         store.stage("_bw_bal", "SELECT CAST(NULL AS VARCHAR) AS body, CAST(NULL AS VARCHAR) AS "
                     "ballot_id, CAST(NULL AS DATE) AS held_on, CAST(NULL AS VARCHAR) AS title, "
-                    "CAST(NULL AS VARCHAR) AS item, 0 AS k, CAST(0 AS BIGINT) AS rid, "
-                    "CAST(NULL AS DATE) AS stored_on, false AS bad_date WHERE false")
+                    "CAST(NULL AS VARCHAR) AS item, CAST(NULL AS VARCHAR) AS topic, 0 AS k, "
+                    "CAST(0 AS BIGINT) AS rid, "
+                    "CAST(NULL AS DATE) AS stored_on, CAST(NULL AS VARCHAR) AS stored_topic, "
+                    "false AS bad_date WHERE false")
         return "_bw_bal"
     store.stage("_bw_ball", " UNION ALL ".join(parts))
     # A date given in the votes files and a different one in the ballots file.
@@ -185,13 +187,15 @@ def resolve_ballots(store: Store, vote_ballots: list[str], file_ballots: str | N
     store.stage("_bw_bal", """
         WITH g AS (SELECT body, ballot_id, min(day) AS day, arg_min(title, src * 1e12 + rid)
                    FILTER (WHERE title IS NOT NULL) AS title, arg_min(item, src * 1e12 + rid)
-                   FILTER (WHERE item IS NOT NULL) AS item, arg_min(k, src * 1e12 + rid) AS k,
+                   FILTER (WHERE item IS NOT NULL) AS item, arg_min(topic, src * 1e12 + rid)
+                   FILTER (WHERE topic IS NOT NULL) AS topic, arg_min(k, src * 1e12 + rid) AS k,
                    arg_min(rid, src * 1e12 + rid) AS rid,
                    bool_or(held_on IS NOT NULL AND day IS NULL) AS bad_date
                    FROM _bw_ball GROUP BY body, ballot_id)
         SELECT g.body, g.ballot_id, coalesce(g.day, s.held_on) AS held_on,
                coalesce(g.title, s.title) AS title, coalesce(g.item, s.item) AS item,
-               g.k, g.rid, s.held_on AS stored_on, g.bad_date
+               coalesce(g.topic, s.topic) AS topic, g.k, g.rid, s.held_on AS stored_on,
+               s.topic AS stored_topic, g.bad_date
         FROM g LEFT JOIN ballots s ON s.body = g.body AND s.ballot_id = g.ballot_id""")
     n, = store.rows("SELECT count(*) FROM _bw_bal WHERE held_on IS NULL AND NOT bad_date")[0]
     if n:
@@ -210,4 +214,12 @@ def resolve_ballots(store: Store, vote_ballots: list[str], file_ballots: str | N
             add_row_problem(problems, staged_by_k[k], "conflict", rid, "held_on", str(new),
                             f"ballot {show(ballot)} is dated {new} here but {old} in the store",
                             "pass --replace to overwrite the stored ballot, or fix the date")
+        # A stored topic is changed only on purpose (it moves the ballot's periods' numbers).
+        for k, rid, ballot, new, old in store.rows(
+                f"SELECT k, rid, ballot_id, topic, stored_topic FROM _bw_bal WHERE stored_topic "
+                f"IS NOT NULL AND topic <> stored_topic ORDER BY k, rid LIMIT {EXAMPLES}"):
+            add_row_problem(problems, staged_by_k[k], "conflict", rid, "topic", new,
+                            f"ballot {show(ballot)} has the topic {show(new)} here but "
+                            f"{show(old)} in the store", "pass --replace to overwrite the "
+                            "stored ballot, or fix the topic")
     return "_bw_bal"

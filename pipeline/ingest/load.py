@@ -136,7 +136,7 @@ def ingest_files(store: Store, paths, *, body: str | None, members=None, layout:
     columns : dict, optional
         ``{field: header}`` for columns with other names (fields: ``readers.FIELDS``).
     ballots : path, optional
-        Ballot dates and titles: ``ballot_id, held_on[, title, item]``.
+        Ballot dates and titles: ``ballot_id, held_on[, title, item, topic]``.
     check_only : bool
         Check everything, write nothing; problems are returned in the report, not raised.
     scale : str, optional

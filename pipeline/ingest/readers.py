@@ -1,9 +1,10 @@
 """Input files → one normalised, staged table per file (a temporary DuckDB table).
 
 Every format and layout ends in the same shape: text columns named as the store names them
-(``body, ballot_id, held_on, member_id, raw, group_name, name, title, item`` for votes;
-``member_id, name, group_name, valid_from, valid_to`` for a roster; ``ballot_id, held_on,
-title, item`` for a ballots file), values trimmed, blanks as NULL, in file order (``rid``).
+(``body, ballot_id, held_on, member_id, raw, group_name, name, title, item, topic`` for
+votes; ``member_id, name, group_name, valid_from, valid_to`` for a roster; ``ballot_id,
+held_on, title, item, topic`` for a ballots file), values trimmed, blanks as NULL, in file
+order (``rid``).
 
 Long files (one row per member per ballot) are read by DuckDB straight from disk — CSV,
 Parquet, JSON lines — so they stream; ``.xlsx`` and the wide layout go through
@@ -37,6 +38,9 @@ FIELDS: dict[str, tuple[str, tuple[str, ...]]] = {
     "name": ("name", ("name", "member_name", "full_name")),
     "title": ("title", ("title", "ballot_title", "motion")),
     "item": ("item", ("item", "agenda_item")),
+    # One topic per ballot (policy area, committee, ...): per-topic and agenda-standardised
+    # measures (blocwatch.metrics.agenda).
+    "topic": ("topic", ("topic", "policy_area")),
     "valid_from": ("valid_from", ("valid_from", "from", "since", "start")),
     "valid_to": ("valid_to", ("valid_to", "to", "until", "end")),
     # Scale declarations (blocwatch.pipeline.scales): a spec, or a kind with range/options.
@@ -49,10 +53,10 @@ SCALE_OPTIONAL = ("scale", "scale_min", "scale_max", "options")
 # per kind of file: (required fields, optional fields, extra accepted names)
 KINDS: dict[str, tuple[tuple[str, ...], tuple[str, ...], dict[str, tuple[str, ...]]]] = {
     "votes": (("ballot", "member", "vote"), ("body", "date", "group", "name", "title", "item",
-                                             *SCALE_OPTIONAL), {}),
+                                             "topic", *SCALE_OPTIONAL), {}),
     "roster": (("member", "group"), ("body", "name", "valid_from", "valid_to"),
                {"member": ("id",)}),
-    "ballots": (("ballot", "date"), ("body", "title", "item", *SCALE_OPTIONAL),
+    "ballots": (("ballot", "date"), ("body", "title", "item", "topic", *SCALE_OPTIONAL),
                 {"ballot": ("id",)}),
     "wide": (("member",), ("body", "name", "group"), {}),  # the member columns of a wide sheet
 }

@@ -193,7 +193,7 @@ def check_values(store, staged, *, required: tuple[str, ...], problems: Problems
 
 FIELD_WORDS = {"body": "body name", "ballot_id": "ballot id", "held_on": "date",
                "member_id": "member id", "raw": "vote code", "group_name": "group",
-               "name": "name", "title": "title", "item": "agenda item",
+               "name": "name", "title": "title", "item": "agenda item", "topic": "topic",
                "valid_from": "valid_from date", "valid_to": "valid_to date"}
 
 

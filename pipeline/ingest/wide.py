@@ -3,14 +3,15 @@
 The wide layout keeps one row per member and one column per ballot::
 
     member_id, name,  group, 2021-001,   2021-002
-    date,      ,      ,      2021-01-12, 2021-01-19     <- optional rows: date, title, item
+    date,      ,      ,      2021-01-12, 2021-01-19     <- optional rows: date, title, item, topic
     M01,       Ann E, Left,  Y,          N
 
 Columns named as a member, name, group or body field (see ``readers.FIELDS``) describe the
 member; every other column with a header is a ballot. Rows right below the header whose member
-cell reads ``date`` (or ``held_on``), ``title`` or ``item`` give each ballot's attributes; without
-a date row, a ballot header that starts with an ISO date (``2021-01-12`` or ``2021-01-12 #2``)
-dates its ballot, and other dates come from ``--ballots FILE`` or from ballots already stored.
+cell reads ``date`` (or ``held_on``), ``title``, ``item`` or ``topic`` give each ballot's
+attributes; without a date row, a ballot header that starts with an ISO date (``2021-01-12`` or
+``2021-01-12 #2``) dates its ballot, and other dates come from ``--ballots FILE`` or from
+ballots already stored.
 Only the first sheet of a workbook is read. Merged cells and formulas are refused (their values
 are not what a clerk sees); blank cells mean absent.
 
@@ -38,6 +39,7 @@ from blocwatch.pipeline.store.database import Store
 STAGE_COLUMNS = {kind: tuple(FIELDS[o][0] for o in req + opt)
                  for kind, (req, opt, _) in KINDS.items()}
 META_ROWS = {"date": "held_on", "held_on": "held_on", "title": "title", "item": "item",
+             "topic": "topic",
              "scale": "scale", "scale_min": "scale_min", "scale_max": "scale_max",
              "options": "options"}
 
@@ -282,6 +284,7 @@ def _wide_frame(grid: Grid, name: str, body: str | None, overrides: dict, proble
         "name": _member_col(grid, members, cols.get("name"), b),
         "title": _meta_row(grid, meta.get("title"), ballots, m),
         "item": _meta_row(grid, meta.get("item"), ballots, m),
+        "topic": _meta_row(grid, meta.get("topic"), ballots, m),
         **{c: _meta_row(grid, meta.get(c), ballots, m)
            for c in ("scale", "scale_min", "scale_max", "options")},
     })

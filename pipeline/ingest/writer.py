@@ -49,19 +49,22 @@ def write_load(store: Store, *, votes: str | None, ballots: str, members: str | 
 
 def _write_ballots(store: Store, ballots: str, *, replace: bool) -> None:
     if replace:
-        store.execute(f"""INSERT OR REPLACE INTO ballots (body, ballot_id, held_on, title, item)
-                          SELECT body, ballot_id, held_on, title, item FROM {ballots}
-                          WHERE held_on IS NOT NULL""")
+        store.execute(f"""INSERT OR REPLACE INTO ballots (body, ballot_id, held_on, title, item,
+                          topic) SELECT body, ballot_id, held_on, title, item, topic
+                          FROM {ballots} WHERE held_on IS NOT NULL""")
         return
-    store.execute(f"""INSERT INTO ballots (body, ballot_id, held_on, title, item)
-                      SELECT body, ballot_id, held_on, title, item FROM {ballots}
+    store.execute(f"""INSERT INTO ballots (body, ballot_id, held_on, title, item, topic)
+                      SELECT body, ballot_id, held_on, title, item, topic FROM {ballots}
                       WHERE stored_on IS NULL AND held_on IS NOT NULL""")
-    # Stored ballots without a title or item get the load's (nothing stored is overwritten).
+    # Stored ballots without a title, item or topic get the load's (nothing stored is
+    # overwritten; a different topic was refused as a conflict).
     store.execute(f"""UPDATE ballots SET title = coalesce(ballots.title, b.title),
-                      item = coalesce(ballots.item, b.item)
+                      item = coalesce(ballots.item, b.item),
+                      topic = coalesce(ballots.topic, b.topic)
                       FROM {ballots} b WHERE b.stored_on IS NOT NULL AND ballots.body = b.body
                       AND ballots.ballot_id = b.ballot_id AND ((ballots.title IS NULL AND
-                      b.title IS NOT NULL) OR (ballots.item IS NULL AND b.item IS NOT NULL))""")
+                      b.title IS NOT NULL) OR (ballots.item IS NULL AND b.item IS NOT NULL)
+                      OR (ballots.topic IS NULL AND b.topic IS NOT NULL))""")
 
 
 def _write_votes(store: Store, votes: str, bodies: list[str], *, replace: bool) -> int:

@@ -22,7 +22,7 @@ import pandas as pd
 
 from blocwatch.pipeline.errors import EXIT_LOCKED, BadInputError, StoreError
 
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2
 DEFAULT_STORE = "blocwatch.duckdb"
 
 # Sentinels for open-ended membership dates (primary keys cannot hold NULL).
@@ -163,7 +163,10 @@ TABLES = (
 )
 
 # Migrations from version N to N+1, applied in order by :func:`migrate`.
-_MIGRATIONS: dict[int, str] = {}
+_MIGRATIONS: dict[int, str] = {
+    # 1 -> 2: one optional topic per ballot (per-topic and agenda-standardised measures).
+    1: "ALTER TABLE ballots ADD COLUMN topic VARCHAR;",
+}
 
 
 def check_table(name: str) -> str:
