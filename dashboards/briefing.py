@@ -5,6 +5,7 @@ from __future__ import annotations
 import pandas as pd
 
 from blocwatch.dashboards import labels, numbers, text
+from blocwatch.dashboards.agenda import agenda_section
 from blocwatch.dashboards.bridges import left_out_note, top_bridges
 from blocwatch.dashboards.chart import Chart, slug
 from blocwatch.dashboards.counted import counted_html
@@ -60,7 +61,7 @@ def build_briefing(tables: ReportTables, body: str, *, colours: dict[str, str],
     key = slug(body)
     charts: list[Chart] = []
     parts = [f"<header><p class='bw-kicker'>blocwatch briefing · voting patterns</p>"
-             f"<h1>{esc(body)}</h1>{_span(m)}</header>", _nav()]
+             f"<h1>{esc(body)}</h1>{_span(m)}</header>", "NAV"]
     known = labels.catalogue(tables.measures)
     parts.append(_summary(t, body, known))
     names = labels.ordered(m["metric"].dropna().unique())
@@ -72,8 +73,12 @@ def build_briefing(tables: ReportTables, body: str, *, colours: dict[str, str],
         c = trend_chart(m, name, trends=t.trends, known=known)
         charts.append(c)
         parts.append(chart_block(c, f"bw-{key}-{c.name}", TREND_COLUMNS, metric=name))
+    parts.append("</section>")
+    agenda_html, agenda_charts = agenda_section(t, key, lead_metric(m, body))
+    charts += agenda_charts
+    parts.append(agenda_html)
     chosen = chosen_periods(t, body, periods)
-    parts.append("</section><section id='networks'><h2>Who votes with whom</h2>")
+    parts.append("<section id='networks'><h2>Who votes with whom</h2>")
     if not chosen:
         parts.append("<p class='bw-muted'>Not computed: no member or tie data in the results."
                      "</p>")
@@ -94,6 +99,7 @@ def build_briefing(tables: ReportTables, body: str, *, colours: dict[str, str],
         "n_pairs": "Pairs"}))
     parts.append(_bridges(t, body, n_bridges, bridge, chosen))
     parts.append(counted_html(m, t.members, tables.provenance))
+    parts[parts.index("NAV")] = _nav(agenda=bool(agenda_html))
     parts.append(text.reading_html())
     parts.append(text.methods_html(names, sorted(t.members["metric"].dropna().unique()), known))
     parts.append(text.provenance_html(tables.provenance, sorted(m["run_id"].dropna().unique())))
@@ -212,8 +218,9 @@ def _span(m: pd.DataFrame) -> str:
             f"{esc(p['period'].iloc[-1])}</p>")
 
 
-def _nav() -> str:
-    links = [("summary", "Summary"), ("trends", "Trends"), ("networks", "Networks"),
+def _nav(*, agenda: bool = False) -> str:
+    links = [("summary", "Summary"), ("trends", "Trends"),
+             *([("agenda", "What moved it")] if agenda else []), ("networks", "Networks"),
              ("groups", "Groups"), ("bridges", "Bridges"), ("counted", "Who is counted"),
              ("reading", "Reading these figures"),
              ("methods", "Methods"), ("provenance", "Provenance")]

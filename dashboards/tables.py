@@ -23,7 +23,7 @@ SCHEMAS: dict[str, tuple[tuple[str, ...], tuple[str, ...]]] = {
     "metrics": (
         ("body", "period", "metric", "value"),
         ("period_start", "period_end", "low", "high", "null_mean", "null_z", "null_p",
-         "n_members", "n_ballots", "note", "run_id", "n_dropped"),
+         "n_members", "n_ballots", "note", "run_id", "n_dropped", "subset"),
     ),
     "members": (
         ("body", "period", "member_id", "metric", "value"),
@@ -36,7 +36,7 @@ SCHEMAS: dict[str, tuple[tuple[str, ...], tuple[str, ...]]] = {
     "trends": (
         ("body", "metric"),
         ("n_periods", "mk_s", "mk_z", "mk_p", "tau", "slope", "slope_low", "slope_high",
-         "change_points", "note"),
+         "change_points", "note", "subset"),
     ),
     "edges": (
         ("body", "period", "member_a", "member_b", "agreement"),
@@ -52,7 +52,7 @@ _SHARED = {"measures"}
 
 _TEXT = {"body", "period", "metric", "member_id", "name", "group_name", "group_a", "group_b",
          "member_a", "member_b", "note", "run_id", "change_points", "label", "description",
-         "formula", "direction", "reference"}
+         "formula", "direction", "reference", "subset"}
 _DATES = {"period_start", "period_end"}
 
 
@@ -107,6 +107,9 @@ class ReportTables:
     trends : DataFrame, optional
         One row per body × metric: ``n_periods, mk_s, mk_z, mk_p, tau, slope, slope_low,
         slope_high, change_points`` (a JSON list of period names), ``note``.
+        ``metrics`` and ``trends`` may carry a ``subset`` column (``all`` when missing): rows
+        of other subsets (``topic:<name>``, ``agenda-standardised``, ``pair:<A>|<B>``) are
+        kept apart in ``subset_metrics`` and ``subset_trends`` for the "what moved it" charts.
     edges : DataFrame, optional
         ``body, period, member_a, member_b, agreement`` for the network pictures.
     measures : DataFrame, optional
@@ -132,6 +135,13 @@ class ReportTables:
     def __post_init__(self) -> None:
         for name in SCHEMAS:
             setattr(self, name, _normalise(name, getattr(self, name)))
+        # Rows of a subset other than 'all' (one topic, agenda-standardised, a pair of groups)
+        # move to subset_metrics / subset_trends, so every other chart sees the whole body.
+        for name in ("metrics", "trends"):
+            frame = getattr(self, name)
+            whole = frame["subset"].fillna("all") == "all"
+            setattr(self, f"subset_{name}", frame[~whole].reset_index(drop=True))
+            setattr(self, name, frame[whole].reset_index(drop=True))
         self.provenance = dict(self.provenance or {})
         self.colours = {str(k): str(v) for k, v in (self.colours or {}).items()}
 
@@ -146,6 +156,9 @@ class ReportTables:
     def for_body(self, body: str) -> ReportTables:
         """The same tables restricted to one body (provenance and colours kept)."""
         parts = {name: getattr(self, name) for name in SCHEMAS}
+        for name in ("metrics", "trends"):
+            parts[name] = pd.concat([parts[name], getattr(self, f"subset_{name}")],
+                                    ignore_index=True)
         parts = {name: df if name in _SHARED else df[df["body"] == body]
                  for name, df in parts.items()}
         return ReportTables(**parts, provenance=self.provenance, colours=self.colours)

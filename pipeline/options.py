@@ -44,6 +44,12 @@ DEFAULT_EXPENSIVE_REPLICATES = 40
 DEFAULT_MIN_SHARED = 5
 DEFAULT_MIN_SHARE_CAST = 0.25
 DEFAULT_LOPSIDED = 0.0
+# Per-topic series: a topic needs this many counted ballots in a period to get a figure (fewer
+# give agreement from a handful of votes; common practice, no published threshold).
+DEFAULT_MIN_TOPIC_BALLOTS = 10
+# Reference topic mix of the agenda-standardised series: "pooled" (every stored ballot of the
+# body) or the name of one period.
+DEFAULT_TOPIC_REFERENCE = "pooled"
 DEFAULT_AGREEMENT = "match"
 
 # Choice lists of the command line (click.Choice reads them from here).
@@ -93,6 +99,12 @@ class BuildOptions:
     permutations: int = DEFAULT_PERMUTATIONS
     expensive_replicates: int = DEFAULT_EXPENSIVE_REPLICATES
     agreement: AgreementOptions = field(default_factory=AgreementOptions)
+    min_topic_ballots: int = DEFAULT_MIN_TOPIC_BALLOTS
+    topic_reference: str = DEFAULT_TOPIC_REFERENCE
+    # The reference mix itself, ((topic, share), ...): resolved per body from the store by
+    # blocwatch.pipeline.build.builder.body_options (it moves the standardised series, so it
+    # belongs in the fingerprint); () for bodies without topics.
+    topic_mix: tuple = ()
 
     def params(self) -> dict:
         return asdict(self)
@@ -108,6 +120,8 @@ class BuildOptions:
                      if k in AgreementOptions.__dataclass_fields__}
         known = {k: v for k, v in params.items()
                  if k in cls.__dataclass_fields__ and k != "agreement"}
+        if "topic_mix" in known:  # JSON gives lists back
+            known["topic_mix"] = tuple(tuple(pair) for pair in known["topic_mix"])
         return cls(agreement=AgreementOptions(**agreement), **known)
 
 

@@ -14,11 +14,12 @@ from blocwatch.metrics.trends import trend_summary
 from blocwatch.pipeline.build.compute import PeriodResult
 from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.build.executors import Executor, ExecutorSpec, PeriodJob, make_executor
-from blocwatch.pipeline.build.planner import BodyPlan, bodies, plan_body
+from blocwatch.pipeline.build.planner import BodyPlan, bodies, body_options, plan_body
+from blocwatch.pipeline.build.subset_trends import subset_trend_rows
 from blocwatch.pipeline.store.runs import finish_run, start_run, tool_version
 from blocwatch.pipeline.store.database import Store
 
-RESULT_TABLES = ("period_metrics", "member_metrics", "group_agreement")
+RESULT_TABLES = ("period_metrics", "member_metrics", "group_agreement", "subset_metrics")
 
 
 @dataclass
@@ -71,7 +72,7 @@ def write_period(store: Store, run_id: int, res: PeriodResult) -> None:
                       [res.body, res.period_name, res.period_start, res.period_end,
                        res.fingerprint, run_id, res.n_members, res.n_ballots, res.n_dropped])
         for table, frame in (("period_metrics", res.metrics), ("member_metrics", res.members),
-                             ("group_agreement", res.groups)):
+                             ("group_agreement", res.groups), ("subset_metrics", res.subsets)):
             if frame.empty:
                 continue
             frame = frame.assign(run_id=run_id, body=res.body, period=res.period_name)
@@ -110,9 +111,12 @@ def write_trends(store: Store, run_id: int, body: str) -> None:
                      **{k: summary.get(k) for k in ("n_periods", "mk_s", "mk_z", "mk_p", "tau",
                                                     "slope", "slope_low", "slope_high")},
                      "change_points": json.dumps(cps), "note": summary.get("note") or None})
+    subsets = subset_trend_rows(store, run_id, body)
     with store.transaction():
         store.execute("DELETE FROM trends WHERE body = ?", [body])
         store.insert_frame("trends", pd.DataFrame(rows))
+        store.execute("DELETE FROM subset_trends WHERE body = ?", [body])
+        store.insert_frame("subset_trends", subsets)
 
 
 def _to_compute(store: Store, plan: BodyPlan, opts: BuildOptions, version: str,
@@ -151,11 +155,12 @@ def build(store: Store, *, body: str | None = None, options: BuildOptions | None
                       inputs) as (report, pool):
         for b in targets:
             plan = plan_body(store, b, opts.period)
+            body_opts = body_options(store, b, opts)  # with the body's reference topic mix
             names = None if only is None else {p for bb, p in only if bb == b}
             # Matrices are read one at a time as the executor asks for them (streamed);
             # results come back in period order and are written here, the single writer.
-            jobs = _to_compute(store, plan, opts, version, only_changed, names, report)
-            for res, seconds in pool.map(PeriodJob(opts, version), jobs):
+            jobs = _to_compute(store, plan, body_opts, version, only_changed, names, report)
+            for res, seconds in pool.map(PeriodJob(body_opts, version), jobs):
                 store_result(store, report, res, seconds, progress)
             report.removed += [(b, p) for p in plan.removed]  # said by the CLI, not silent
             drop_stale_periods(store, b, [p.name for p in plan.periods])

@@ -25,6 +25,7 @@ from blocwatch.pipeline.build.filters import filter_period
 from blocwatch.pipeline.build.graphs import build_graph
 from blocwatch.pipeline.build.matrices import VoteMatrix
 from blocwatch.pipeline.build.scored_agreement import scored_period_input
+from blocwatch.pipeline.build.topics import SUBSET_COLUMNS, subset_rows
 from blocwatch.pipeline.options import AgreementOptions, BuildOptions, parse_rule
 
 METRIC_COLUMNS = ["metric", "value", "low", "high", "null_mean", "null_z", "null_p", "note"]
@@ -43,6 +44,8 @@ class PeriodResult:
     metrics: pd.DataFrame
     members: pd.DataFrame
     groups: pd.DataFrame
+    # Per-topic and agenda-standardised rows (blocwatch.pipeline.build.topics.SUBSET_COLUMNS).
+    subsets: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(columns=SUBSET_COLUMNS))
 
 
 def fingerprint(vm: VoteMatrix, opts: BuildOptions, version: str) -> str:
@@ -142,7 +145,8 @@ def compute_period(vm: VoteMatrix, opts: BuildOptions, version: str) -> PeriodRe
     metrics = pd.DataFrame(rows, columns=METRIC_COLUMNS)
     return PeriodResult(vm.body, vm.period.name, vm.period.start, vm.period.end, inp.n,
                         int(vm.votes.shape[1]), vm.dropped, fp, metrics,
-                        members, _group_rows(vm, inp))
+                        members, _group_rows(vm, inp),
+                        subset_rows(vm, labels, opts, seed, period_input))
 
 
 def _member_rows(vm: VoteMatrix, inp: PeriodInput) -> pd.DataFrame:

@@ -19,12 +19,14 @@ its last period and its trends).
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Iterator
 from dataclasses import dataclass, field
 
 from blocwatch.pipeline.build.compute import fingerprint
 from blocwatch.pipeline.build.matrices import VoteMatrix, ballot_date_range, load_votes
 from blocwatch.pipeline.build.periods import make_periods
+from blocwatch.pipeline.build.topics import NO_TOPIC
 from blocwatch.pipeline.options import BuildOptions, Period
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.store.database import Store
@@ -90,6 +92,31 @@ def body_periods(store: Store, body: str, spec: str) -> list[Period]:
     return [] if span is None else make_periods(spec, span[0], span[1])
 
 
+def body_options(store: Store, body: str, opts: BuildOptions) -> BuildOptions:
+    """``opts`` with the body's reference topic mix filled in (``()`` without topics).
+
+    The mix is each topic's share of the body's stored ballots (``pooled``) or of one period's
+    (``topic_reference`` = that period's name); ballots without a topic count as ``(none)``.
+    The mix decides the standardised series, so it is part of every period's fingerprint.
+    """
+    sql = "SELECT coalesce(topic, ''), count(*) FROM ballots WHERE body = ?"
+    rows = store.rows(sql + " GROUP BY 1", [body])
+    if not any(t for t, _ in rows):
+        return dataclasses.replace(opts, topic_mix=())
+    if opts.topic_reference != "pooled":
+        periods = {p.name: p for p in body_periods(store, body, opts.period)}
+        chosen = periods.get(opts.topic_reference)
+        if chosen is None:
+            raise UsageError(f"topic reference {opts.topic_reference!r}",
+                             f"is not a {opts.period} period of {body}",
+                             f"use pooled or one of: {', '.join(list(periods)[:10])}")
+        rows = store.rows(sql + " AND held_on BETWEEN ? AND ? GROUP BY 1",
+                          [body, chosen.start, chosen.end])
+    total = sum(n for _, n in rows)
+    mix = sorted((t or NO_TOPIC, round(n / total, 12)) for t, n in rows)
+    return dataclasses.replace(opts, topic_mix=tuple(mix))
+
+
 def plan_body(store: Store, body: str, spec: str) -> BodyPlan:
     stored = dict(store.rows("SELECT period, fingerprint FROM periods WHERE body = ?", [body]))
     return BodyPlan(body, body_periods(store, body, spec), stored)
@@ -110,8 +137,9 @@ def stale_periods(store: Store, options: BuildOptions, body: str | None = None) 
     out = []
     for b in (k for k in known if body is None or k == body):
         plan = plan_body(store, b, options.period)
+        body_opts = body_options(store, b, options)
         found = [Stale(b, vm.period.name, state) for vm in plan.matrices(store)
-                 if (state := plan.state(vm, options, version)) is not None]
+                 if (state := plan.state(vm, body_opts, version)) is not None]
         found += [Stale(b, p, "removed") for p in plan.removed]
         if not found and trends_stale(store, b):
             found.append(Stale(b, None, "trends"))

@@ -21,13 +21,21 @@ from blocwatch.pipeline.store.database import Store
 # Column order of each export, a contract with users' scripts: add columns at the end, never
 # rename (README, "Commands").
 EXPORT_QUERIES = {
+    # subset: 'all' (every ballot), 'topic:<name>' (one topic's ballots; n_ballots counts
+    # them) or 'agenda-standardised' (blocwatch.pipeline.build.topics).
     "metrics": """
         SELECT pm.body, pm.period, p.period_start, p.period_end, pm.metric, pm.value, pm.low,
-               pm.high, p.n_members, p.n_ballots, pm.note, pm.null_mean, pm.null_z, pm.null_p,
-               p.n_dropped, pm.run_id
-        FROM period_metrics pm JOIN periods p USING (body, period)
+               pm.high, p.n_members, coalesce(pm.n_ballots, p.n_ballots) AS n_ballots, pm.note,
+               pm.null_mean, pm.null_z,
+               pm.null_p, p.n_dropped, pm.run_id, pm.subset
+        FROM (SELECT run_id, body, period, metric, value, low, high, null_mean, null_z, null_p,
+                     note, 'all' AS subset, NULL AS n_ballots FROM period_metrics
+              UNION ALL
+              SELECT run_id, body, period, metric, value, low, high, NULL, NULL, NULL, note,
+                     subset, n_ballots FROM subset_metrics) pm
+        JOIN periods p USING (body, period)
         WHERE (? IS NULL OR pm.body = ?)
-        ORDER BY pm.body, p.period_start, pm.metric""",
+        ORDER BY pm.body, p.period_start, pm.subset <> 'all', pm.subset, pm.metric""",
     "members": """
         SELECT mm.body, mm.period, p.period_start, p.period_end, mm.member_id,
                coalesce(m.name, mm.member_id) AS name, mm.group_name, mm.metric, mm.value,
@@ -42,10 +50,13 @@ EXPORT_QUERIES = {
         FROM group_agreement g JOIN periods p USING (body, period)
         WHERE (? IS NULL OR g.body = ?)
         ORDER BY g.body, p.period_start, g.group_a, g.group_b""",
+    # subset as in metrics, plus 'pair:<A>|<B>' (metric pair_agreement) for pairs of groups.
     "trends": """
         SELECT body, metric, n_periods, mk_s, mk_z, mk_p, tau, slope, slope_low, slope_high,
-               change_points, note, run_id
-        FROM trends WHERE (? IS NULL OR body = ?) ORDER BY body, metric""",
+               change_points, note, run_id, subset
+        FROM (SELECT *, 'all' AS subset FROM trends
+              UNION ALL BY NAME SELECT * FROM subset_trends)
+        WHERE (? IS NULL OR body = ?) ORDER BY body, subset <> 'all', subset, metric""",
 }
 
 

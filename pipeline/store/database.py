@@ -160,12 +160,46 @@ CREATE TABLE IF NOT EXISTS trends (
 TABLES = (
     "meta", "bodies", "members", "memberships", "ballots", "votes", "ingests", "runs",
     "periods", "period_metrics", "member_metrics", "group_agreement", "trends",
+    "subset_metrics", "subset_trends",
 )
 
 # Migrations from version N to N+1, applied in order by :func:`migrate`.
 _MIGRATIONS: dict[int, str] = {
-    # 1 -> 2: one optional topic per ballot (per-topic and agenda-standardised measures).
-    1: "ALTER TABLE ballots ADD COLUMN topic VARCHAR;",
+    # 1 -> 2: one optional topic per ballot; the per-subset series (one topic's ballots, the
+    # agenda-standardised series) and their trends, plus trends of each pair of groups.
+    1: """
+ALTER TABLE ballots ADD COLUMN topic VARCHAR;
+CREATE TABLE IF NOT EXISTS subset_metrics (
+    run_id BIGINT NOT NULL,
+    body VARCHAR NOT NULL,
+    period VARCHAR NOT NULL,
+    subset VARCHAR NOT NULL,
+    metric VARCHAR NOT NULL,
+    value DOUBLE,
+    low DOUBLE,
+    high DOUBLE,
+    n_ballots INTEGER NOT NULL,
+    note VARCHAR,
+    PRIMARY KEY (body, period, subset, metric)
+);
+CREATE TABLE IF NOT EXISTS subset_trends (
+    run_id BIGINT NOT NULL,
+    body VARCHAR NOT NULL,
+    subset VARCHAR NOT NULL,
+    metric VARCHAR NOT NULL,
+    n_periods INTEGER NOT NULL,
+    mk_s DOUBLE,
+    mk_z DOUBLE,
+    mk_p DOUBLE,
+    tau DOUBLE,
+    slope DOUBLE,
+    slope_low DOUBLE,
+    slope_high DOUBLE,
+    change_points VARCHAR,
+    note VARCHAR,
+    PRIMARY KEY (body, subset, metric)
+);
+""",
 }
 
 
