@@ -89,7 +89,8 @@ def pair_frame(groups: pd.DataFrame) -> pd.DataFrame:
 def pair_chart(groups: pd.DataFrame, periods: pd.DataFrame, subset_trends: pd.DataFrame
                ) -> Chart:
     """One line per pair of groups: the mean agreement of their members' pairs."""
-    rows = pair_frame(groups).merge(periods, on="period", how="left")
+    rows = pair_frame(groups).merge(periods[["period", "period_start", "period_end"]],
+                                    on="period", how="left")
     alt = (f"Line chart of the mean agreement between the members of each pair of groups, "
            f"{rows['subset'].nunique()} pairs.")
     return _chart(rows, "pair_agreement", "pairs", "Agreement between pairs of groups", alt,

@@ -265,11 +265,14 @@ def build_options(*, period: str = DEFAULT_PERIOD, rule: str = DEFAULT_RULE,
                   abstain_as_position: bool = False, min_shared: int = DEFAULT_MIN_SHARED,
                   keep_unanimous: bool = False, lopsided: float = DEFAULT_LOPSIDED,
                   min_share_cast: float = DEFAULT_MIN_SHARE_CAST,
-                  agreement: str = DEFAULT_AGREEMENT) -> BuildOptions:
+                  agreement: str = DEFAULT_AGREEMENT,
+                  min_topic_ballots: int = DEFAULT_MIN_TOPIC_BALLOTS,
+                  topic_reference: str = DEFAULT_TOPIC_REFERENCE) -> BuildOptions:
     """:class:`BuildOptions` from the build flags, the specs checked first."""
     parse_period_spec(period)
     parse_rule(rule)
     return BuildOptions(period=period, rule=rule, seed=seed, bootstrap=bootstrap,
+                        min_topic_ballots=min_topic_ballots, topic_reference=topic_reference,
                         permutations=permutations, expensive_replicates=expensive_replicates,
                         agreement=AgreementOptions(abstain_as_position=abstain_as_position,
                                                    min_shared=min_shared,

@@ -32,6 +32,9 @@ from blocwatch.pipeline.build.graphs import build_graph, parse_rule
 SUBSET_FAMILIES = ("modularity", "crossgroup")
 STANDARDISED = "agenda-standardised"
 NO_TOPIC = "(none)"
+# The topics with enough ballots in a period must carry at least this share of the reference
+# mix, else the period gets no standardised figure (it would stand for a few topics only).
+MIN_REFERENCE_COVERAGE = 0.5
 SUBSET_COLUMNS = ["subset", "metric", "value", "low", "high", "n_ballots", "note"]
 OUTSIDE_NOTE = ("the estimate lies outside its bootstrap interval: resampled ballots shift this "
                 "measure (ballots drawn twice add apparent structure), so read the interval as "
@@ -80,6 +83,9 @@ def subset_rows(vm, labels: np.ndarray, opts, seed: int,
 
     reference = dict(opts.topic_mix)
     used = [t for t in enough if reference.get(t, 0) > 0]
+    coverage = sum(reference[t] for t in used)
+    if coverage < MIN_REFERENCE_COVERAGE:  # mostly not held fixed: no figure, a note
+        used = []
 
     def standardised(agreements: dict) -> dict:
         if not used:
@@ -119,8 +125,10 @@ def subset_rows(vm, labels: np.ndarray, opts, seed: int,
         n_used = sum(counts[t] for t in used)
         for j, m in enumerate(metrics):
             if not used:
-                rows.append([STANDARDISED, m, np.nan, np.nan, np.nan, 0, "no topic of the "
-                             f"reference mix has {opts.min_topic_ballots}+ ballots here"])
+                rows.append([STANDARDISED, m, np.nan, np.nan, np.nan, 0, "the topics with "
+                             f"{opts.min_topic_ballots}+ ballots here carry "
+                             f"{coverage:.0%} of the reference mix (at least "
+                             f"{MIN_REFERENCE_COVERAGE:.0%} needed): no figure"])
                 continue
             row = _row(STANDARDISED, m, std.get(m), samples[STANDARDISED][:, j], n_used)
             row[-1] = ((row[-1] or "") + why).lstrip("; ") or None

@@ -135,10 +135,12 @@ def build_flags(func):
         DEFAULT_LOPSIDED,
         DEFAULT_MIN_SHARE_CAST,
         DEFAULT_MIN_SHARED,
+        DEFAULT_MIN_TOPIC_BALLOTS,
         DEFAULT_PERIOD,
         DEFAULT_PERMUTATIONS,
         DEFAULT_RULE,
         DEFAULT_SEED,
+        DEFAULT_TOPIC_REFERENCE,
     )
 
     flags = [
@@ -174,6 +176,14 @@ def build_flags(func):
                      help="Pair agreement: match (share alike; 1 - scaled distance on scores) "
                           "or chance-corrected kappa (graph weight max(kappa, 0); "
                           "kappa-quadratic: quadratic weights on ordinal ballots)."),
+        click.option("--min-topic-ballots", type=click.IntRange(min=1),
+                     default=DEFAULT_MIN_TOPIC_BALLOTS, show_default=True,
+                     help="Fewest counted ballots for a topic to get its own figures in a "
+                          "period (ballots with a topic only)."),
+        click.option("--topic-reference", default=DEFAULT_TOPIC_REFERENCE, show_default=True,
+                     metavar="pooled|PERIOD",
+                     help="Topic mix the agenda-standardised series holds fixed: pooled (all "
+                          "of a body's ballots) or one period's name, e.g. 2010."),
     ]
     for flag in reversed(flags):
         func = flag(func)

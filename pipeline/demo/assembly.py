@@ -6,6 +6,11 @@ position on one axis; each ballot splits the axis at a random cut. Until 2012 th
 overlap; in 2012 the two large ones move apart (the visible shift) and keep drifting. Some
 members change faction, seats turn over at elections, and members are absent or abstain now
 and then. Everything is drawn from one seed, so the demo is the same on every machine.
+
+Every ballot has a topic. Harbour levies always split the factions sharply; the other topics
+divide them less. From 2017 to 2020 the agenda turns to harbour levies (about two ballots in
+three instead of one in four): the raw figures jump for those years while the agenda-standardised
+series does not — the members did not change, the agenda did.
 """
 
 from __future__ import annotations
@@ -21,6 +26,10 @@ BODY = "Assembly of Marrow Sound"
 FACTIONS = ("Tideward League", "Upland Compact", "Lantern Circle")
 FIRST_YEAR, LAST_YEAR, SHIFT_YEAR = 2001, 2025, 2012
 SEATS, BALLOTS_PER_YEAR, ELECTION_EVERY = 45, 60, 4
+# topic -> how strongly the axis decides a vote on it (1 = as before topics existed)
+TOPICS = {"Harbour levies": 2.0, "Ferries and fisheries": 0.6}
+PROCEDURAL_TOPIC = "Standing orders"
+AGENDA_SHIFT = range(2017, 2021)  # years when harbour levies fill the agenda
 
 _GIVEN = ("Avel", "Brisa", "Corran", "Dessa", "Elm", "Fenna", "Garrow", "Hesk", "Ilsa", "Jory",
           "Kestra", "Lune", "Marl", "Nessa", "Orrin", "Pell", "Quill", "Rask", "Sorrel", "Tamsin",
@@ -46,9 +55,15 @@ def _separation(year: int) -> float:
     return 1.6 + 0.05 * (year - SHIFT_YEAR)
 
 
+def _topic_shares(year: int) -> list[float]:
+    levies = 0.65 if year in AGENDA_SHIFT else 0.25
+    return [levies, 1 - levies]
+
+
 def generate(out_dir: str | Path, *, seed: int = 7) -> DemoFiles:
     """Write ``votes.csv`` (long layout) and ``roster.csv`` into ``out_dir``."""
     rng = np.random.default_rng(seed)
+    topic_rng = np.random.default_rng(seed + 101)  # its own stream: the votes' draws stay put
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
     roster_rows, vote_rows = [], []
@@ -90,7 +105,10 @@ def generate(out_dir: str | Path, *, seed: int = 7) -> DemoFiles:
             procedural = rng.random() < 0.12  # near-unanimous business
             cut = rng.normal(0, 0.3) if not procedural else -4.0
             direction = 1.0 if rng.random() < 0.5 else -1.0
-            utility = direction * (x - cut) + rng.normal(0, 0.5, size=len(x))
+            topic = PROCEDURAL_TOPIC if procedural else \
+                list(TOPICS)[int(topic_rng.choice(len(TOPICS), p=_topic_shares(year)))]
+            weight = TOPICS.get(topic, 1.0)
+            utility = direction * weight * (x - cut) + rng.normal(0, 0.5, size=len(x))
             choice = np.where(utility > 0, "yes", "no").astype(object)
             roll = rng.random(len(x))
             choice[roll < 0.03] = "abstain"
@@ -98,11 +116,12 @@ def generate(out_dir: str | Path, *, seed: int = 7) -> DemoFiles:
             for m, c in zip(members, choice):
                 raw = _SPELLING[c][int(rng.integers(len(_SPELLING[c])))]
                 vote_rows.append([ballot_id, held.isoformat(), f"Motion {ballot_id}",
-                                  m["id"], raw])
+                                  topic, m["id"], raw])
     for m in members:
         close(m, date(LAST_YEAR, 12, 31))
     votes_path, roster_path = out / "votes.csv", out / "roster.csv"
-    write_csv(votes_path, ["ballot_id", "date", "title", "member_id", "vote"], vote_rows)
+    write_csv(votes_path, ["ballot_id", "date", "title", "topic", "member_id", "vote"],
+              vote_rows)
     write_roster(roster_path, roster_rows)
     return DemoFiles(votes_path, roster_path)
 
