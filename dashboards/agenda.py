@@ -81,9 +81,12 @@ def pair_frame(groups: pd.DataFrame) -> pd.DataFrame:
     g = groups[groups["group_a"] < groups["group_b"]]
     if len(set(g["group_a"]) | set(g["group_b"])) < 3:
         return pd.DataFrame(columns=["body", "period", "subset", "metric", "value"])
-    return pd.DataFrame({"body": g["body"], "period": g["period"],
-                         "subset": "pair:" + g["group_a"] + "|" + g["group_b"],
-                         "metric": "pair_agreement", "value": g["agreement"]})
+    out = pd.DataFrame({"body": g["body"], "period": g["period"],
+                        "subset": "pair:" + g["group_a"] + "|" + g["group_b"],
+                        "metric": "pair_agreement", "value": g["agreement"]})
+    for col in ("low", "high"):  # the bootstrap interval, where the build stored one
+        out[col] = g[col] if col in g else pd.NA
+    return out
 
 
 def pair_chart(groups: pd.DataFrame, periods: pd.DataFrame, subset_trends: pd.DataFrame
@@ -93,9 +96,10 @@ def pair_chart(groups: pd.DataFrame, periods: pd.DataFrame, subset_trends: pd.Da
                                     on="period", how="left")
     alt = (f"Line chart of the mean agreement between the members of each pair of groups, "
            f"{rows['subset'].nunique()} pairs.")
+    banded = rows["low"].notna().any() if "low" in rows else False
     return _chart(rows, "pair_agreement", "pairs", "Agreement between pairs of groups", alt,
                   subset_trends[subset_trends["metric"] == "pair_agreement"],
-                  note="Lines without a band: pair agreement has no interval yet.")
+                  note="" if banded else "No band: the build stored no interval (bootstrap 0).")
 
 
 def split_sentence(metrics: pd.DataFrame, subsets: pd.DataFrame, metric: str) -> str | None:

@@ -31,7 +31,7 @@ SCHEMAS: dict[str, tuple[tuple[str, ...], tuple[str, ...]]] = {
     ),
     "group_agreement": (
         ("body", "period", "group_a", "group_b", "agreement"),
-        ("n_pairs",),
+        ("n_pairs", "low", "high"),
     ),
     "trends": (
         ("body", "metric"),

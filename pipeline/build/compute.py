@@ -8,7 +8,7 @@ from __future__ import annotations
 import dataclasses
 import hashlib
 import json
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
@@ -85,20 +85,29 @@ def period_input(votes: np.ndarray, labels: np.ndarray, opts: BuildOptions, seed
 
 
 def _bootstrap(vm: VoteMatrix, labels: np.ndarray, opts: BuildOptions, seed: int,
-               names: list[str]) -> dict[str, tuple[float, float]]:
+               names: list[str]) -> tuple[dict[str, tuple[float, float]], np.ndarray | None]:
+    """Percentile intervals of the metrics, and of the group × group mean agreement
+    ((k, k, 2) low/high, from the same replicates; None without a bootstrap)."""
     if opts.bootstrap <= 0 or vm.votes.shape[1] == 0:
-        return {}
+        return {}, None
     blocks = vm.items if any(vm.items) else None
     w = ballot_weights(vm.votes.shape[1], opts.bootstrap, seed=seed, blocks=blocks)
     samples = np.full((opts.bootstrap, len(names)), np.nan)
+    k = len(vm.group_names)
+    pair_samples = np.full((opts.bootstrap, k, k), np.nan)
     cheap = [f.name for f in registry.FAMILIES.values() if not f.expensive]
     for r in range(opts.bootstrap):
         families = None if r < opts.expensive_replicates else cheap
-        values = compute_all(period_input(vm.votes, labels, opts, seed, weights=w[r],
-                                          scales=vm.scales), families=families)
+        inp = period_input(vm.votes, labels, opts, seed, weights=w[r], scales=vm.scales)
+        values = compute_all(inp, families=families)
         samples[r] = [values[m].value if m in values and values[m].ok else np.nan
                       for m in names]
-    return {m: percentile_interval(samples[:, j]) for j, m in enumerate(names)}
+        if inp.n:
+            pair_samples[r] = np.asarray(group_agreement_matrix(inp.agreement, labels)[0],
+                                         dtype=float)[:k, :k]
+    pairs = np.array([[percentile_interval(pair_samples[:, a, b]) for b in range(k)]
+                      for a in range(k)]).reshape(k, k, 2)
+    return {m: percentile_interval(samples[:, j]) for j, m in enumerate(names)}, pairs
 
 
 def _nulls(inp: PeriodInput, opts: BuildOptions, seed: int) -> dict[str, dict]:
@@ -133,7 +142,7 @@ def compute_period(vm: VoteMatrix, opts: BuildOptions, version: str) -> PeriodRe
     values = compute_all(inp)
     members = _member_rows(vm, inp)
     names = list(values)
-    intervals = _bootstrap(vm, labels, opts, seed, names)
+    intervals, pair_intervals = _bootstrap(vm, labels, opts, seed, names)
     nulls = _nulls(inp, opts, seed)
     rows = []
     for m in names:
@@ -145,7 +154,7 @@ def compute_period(vm: VoteMatrix, opts: BuildOptions, version: str) -> PeriodRe
     metrics = pd.DataFrame(rows, columns=METRIC_COLUMNS)
     return PeriodResult(vm.body, vm.period.name, vm.period.start, vm.period.end, inp.n,
                         int(vm.votes.shape[1]), vm.dropped, fp, metrics,
-                        members, _group_rows(vm, inp),
+                        members, _group_rows(vm, inp, pair_intervals),
                         subset_rows(vm, labels, opts, seed, period_input))
 
 
@@ -163,8 +172,9 @@ def _member_rows(vm: VoteMatrix, inp: PeriodInput) -> pd.DataFrame:
     return out
 
 
-def _group_rows(vm: VoteMatrix, inp: PeriodInput) -> pd.DataFrame:
-    cols = ["group_a", "group_b", "agreement", "n_pairs", "alpha"]
+def _group_rows(vm: VoteMatrix, inp: PeriodInput,
+                intervals: np.ndarray | None = None) -> pd.DataFrame:
+    cols = ["group_a", "group_b", "agreement", "n_pairs", "alpha", "low", "high"]
     if inp.n == 0:
         return pd.DataFrame(columns=cols)
     mean, pairs = group_agreement_matrix(inp.agreement, inp.labels)
@@ -179,4 +189,9 @@ def _group_rows(vm: VoteMatrix, inp: PeriodInput) -> pd.DataFrame:
                          "group_b": np.array(g, dtype=object)[ib.ravel()],
                          "agreement": np.asarray(mean, dtype=float).ravel(),
                          "n_pairs": np.asarray(pairs, dtype=np.int64).ravel(),
-                         "alpha": alpha.ravel()})
+                         "alpha": alpha.ravel(),
+                         # bootstrap interval of the mean agreement (same replicates as above)
+                         "low": intervals[..., 0].ravel() if intervals is not None
+                         else np.full(len(g) ** 2, np.nan),
+                         "high": intervals[..., 1].ravel() if intervals is not None
+                         else np.full(len(g) ** 2, np.nan)})

@@ -3,12 +3,12 @@
 Layout (``root`` is any folder a worker can read, e.g. a shared file system)::
 
     root/body=<body>/period=<period>/votes.parquet      one period's votes, long
-    results/body=<body>/period=<period>/{metrics,members,groups}.parquet + period.json
+    results/body=<body>/period=<period>/{metrics,members,groups,subsets}.parquet + period.json
 
 Names are percent-encoded in folder names (``body=Assembly%20of%20X``). ``votes.parquet``
 holds one row per member × ballot with the columns ``member_id, name, group, ballot_id, item,
 held_on, choice`` (choice: yes/no/abstain/absent; ``group``: the member's group in this
-period); an optional ``period.json`` gives ``start``, ``end`` (else the first and last ballot
+period) and optionally ``topic`` (the ballot's topic); an optional ``period.json`` gives ``start``, ``end`` (else the first and last ballot
 dates) and ``dropped``. :func:`write_vote_partitions` writes both from a store; any tool can.
 Yes/no ballots only: scored ballots are built from the store.
 
@@ -128,10 +128,10 @@ def read_partition(folder: str | Path, body: str, period_name: str) -> VoteMatri
 
 
 def write_result(res, folder: str | Path) -> Path:
-    """One period's results as a result partition (three Parquet tables and period.json)."""
+    """One period's results as a result partition (four Parquet tables and period.json)."""
     folder = Path(folder)
     folder.mkdir(parents=True, exist_ok=True)
-    for name in ("metrics", "members", "groups"):
+    for name in ("metrics", "members", "groups", "subsets"):
         getattr(res, name).to_parquet(folder / f"{name}.parquet", index=False)
     meta = {k: getattr(res, k) for k in ("body", "period_name", "n_members", "n_ballots",
                                          "n_dropped", "fingerprint")}
@@ -146,7 +146,8 @@ def read_result(folder: str | Path):
     folder = Path(folder)
     meta = json.loads((folder / "period.json").read_text(encoding="utf-8"))
     frames = {name: pd.read_parquet(folder / f"{name}.parquet")
-              for name in ("metrics", "members", "groups")}
+              for name in ("metrics", "members", "groups", "subsets")
+              if (folder / f"{name}.parquet").exists()}  # subsets: absent in older folders
     return PeriodResult(meta["body"], meta["period_name"],
                         date.fromisoformat(meta["period_start"]),
                         date.fromisoformat(meta["period_end"]), meta["n_members"],

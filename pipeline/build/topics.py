@@ -25,7 +25,8 @@ from blocwatch.metrics import compute_all
 from blocwatch.metrics.agenda import standardise_agreement, stratified_ballot_weights
 from blocwatch.metrics.registry import FAMILIES, PeriodInput
 from blocwatch.metrics.resampling import percentile_interval
-from blocwatch.pipeline.build.graphs import build_graph, parse_rule
+from blocwatch.pipeline.build.graphs import build_graph
+from blocwatch.pipeline.options import parse_rule
 
 # The families computed per subset: the cheap headline ones that read only the agreement and
 # the graph (the standardised series has agreement, not votes).

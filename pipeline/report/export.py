@@ -46,7 +46,7 @@ EXPORT_QUERIES = {
         ORDER BY mm.body, p.period_start, mm.member_id, mm.metric""",
     "groups": """
         SELECT g.body, g.period, p.period_start, p.period_end, g.group_a, g.group_b,
-               g.agreement, g.n_pairs, g.alpha, g.run_id
+               g.agreement, g.n_pairs, g.alpha, g.run_id, g.low, g.high
         FROM group_agreement g JOIN periods p USING (body, period)
         WHERE (? IS NULL OR g.body = ?)
         ORDER BY g.body, p.period_start, g.group_a, g.group_b""",

@@ -166,9 +166,12 @@ TABLES = (
 # Migrations from version N to N+1, applied in order by :func:`migrate`.
 _MIGRATIONS: dict[int, str] = {
     # 1 -> 2: one optional topic per ballot; the per-subset series (one topic's ballots, the
-    # agenda-standardised series) and their trends, plus trends of each pair of groups.
+    # agenda-standardised series) and their trends, plus trends of each pair of groups and
+    # the bootstrap interval of each pair's mean agreement.
     1: """
 ALTER TABLE ballots ADD COLUMN topic VARCHAR;
+ALTER TABLE group_agreement ADD COLUMN low DOUBLE;
+ALTER TABLE group_agreement ADD COLUMN high DOUBLE;
 CREATE TABLE IF NOT EXISTS subset_metrics (
     run_id BIGINT NOT NULL,
     body VARCHAR NOT NULL,
