@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import pandas as pd
 
-from blocwatch.dashboards import labels
+from blocwatch.dashboards import labels, numbers
 from blocwatch.dashboards.chart import Chart
 from blocwatch.dashboards.periods import period_table
 from blocwatch.dashboards.trends import trend_chart
@@ -123,16 +123,17 @@ def split_sentence(metrics: pd.DataFrame, subsets: pd.DataFrame, metric: str) ->
     word = "rose" if d_raw > 0 else "fell" if d_raw < 0 else "stayed at"
 
     def amount(v: float) -> str:
-        return labels.fmt(abs(v), metric)
+        return numbers.fmt(abs(v))
 
     std_word = "rose" if d_std > 0 else "fell" if d_std < 0 else "did not move"
-    return (f"From {first['period']} to {last['period']} {label.lower()} {word} by "
-            f"{amount(d_raw)}; with the agenda held at the reference topic mix it {std_word}"
+    name = labels.in_sentence(label)
+    return (f"From {first['period']} to {last['period']} {name} {word} by {amount(d_raw)}; "
+            f"with the agenda held at the reference topic mix it {std_word}"
             f"{'' if d_std == 0 else ' by ' + amount(d_std)}, so the changing mix of topics "
-            f"accounts for about {labels.fmt(d_raw - d_std, metric)} of the change and "
-            f"{labels.fmt(d_std, metric)} remains. This split is approximate: {label.lower()} "
-            "is not a linear function of pair agreement, and topics missing from a period "
-            "are only partly held fixed.")
+            f"accounts for about {numbers.fmt(d_raw - d_std)} of the change and "
+            f"{numbers.fmt(d_std)} remains. This split is approximate: {name} is not a linear "
+            "function of pair agreement, and topics missing from a period are only partly "
+            "held fixed.")
 
 
 def pair_sentence(groups: pd.DataFrame, periods: pd.DataFrame,
@@ -153,13 +154,14 @@ def pair_sentence(groups: pd.DataFrame, periods: pd.DataFrame,
     a, b = pair.removeprefix("pair:").split("|", 1)
     word = "fell" if delta < 0 else "rose"
     text = (f"Of {len(moves)} pairs of groups, {a} and {b} moved most: the mean agreement "
-            f"between their members {word} from {labels.fmt(first['value'], 'pair_agreement')} "
-            f"in {first['period']} to {labels.fmt(last['value'], 'pair_agreement')} in "
+            f"between their members {word} from {numbers.fmt(first['value'])} "
+            f"in {first['period']} to {numbers.fmt(last['value'])} in "
             f"{last['period']}")
     trend = subset_trends[(subset_trends["subset"] == pair)
                           & (subset_trends["metric"] == "pair_agreement")]
     if not trend.empty and pd.notna(trend.iloc[0]["mk_p"]):
-        text += f" (Mann–Kendall p = {labels.fmt(trend.iloc[0]['mk_p'], 'null_p')})"
+        p = numbers.fmt_p(trend.iloc[0]["mk_p"])
+        text += f" (Mann–Kendall p {p if p.startswith('<') else '= ' + p})"
     return text + "."
 
 

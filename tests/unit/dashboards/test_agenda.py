@@ -40,8 +40,8 @@ def test_split_adds_up_to_the_raw_change():
     t = ReportTables(metrics=_metrics([0.10, 0.20, 0.30], [0.10, 0.12, 0.14]))
     text = split_sentence(t.metrics, t.subset_metrics, "group_modularity")
     assert text.startswith("From 2001 to 2003 group modularity rose by 0.20")
-    numbers = [float(x) for x in re.findall(r"about (-?[\d.]+) of the change and (-?[\d.]+)",
-                                            text)[0]]
+    found = re.findall(r"about ([−\d.]+) of the change and ([−\d.]+)", text)[0]
+    numbers = [float(x.replace("−", "-")) for x in found]
     assert abs(sum(numbers) - 0.20) < 0.011  # agenda share + remainder = raw change
     assert numbers == [0.16, 0.04]
     assert "approximate" in text and "not a linear function" in text
