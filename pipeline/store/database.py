@@ -169,9 +169,9 @@ _MIGRATIONS: dict[int, str] = {
     # agenda-standardised series) and their trends, plus trends of each pair of groups and
     # the bootstrap interval of each pair's mean agreement.
     1: """
-ALTER TABLE ballots ADD COLUMN topic VARCHAR;
-ALTER TABLE group_agreement ADD COLUMN low DOUBLE;
-ALTER TABLE group_agreement ADD COLUMN high DOUBLE;
+ALTER TABLE ballots ADD COLUMN IF NOT EXISTS topic VARCHAR;
+ALTER TABLE group_agreement ADD COLUMN IF NOT EXISTS low DOUBLE;
+ALTER TABLE group_agreement ADD COLUMN IF NOT EXISTS high DOUBLE;
 CREATE TABLE IF NOT EXISTS subset_metrics (
     run_id BIGINT NOT NULL,
     body VARCHAR NOT NULL,

@@ -108,11 +108,18 @@ def test_changed_topic_needs_replace(tmp_path):
 def test_version_one_store_gains_the_topic_column(tmp_path):
     """A store written before topics existed (schema 1) is migrated on open."""
     path = tmp_path / "old.duckdb"
-    with Store(path) as store:  # make a version-1 file: drop the column, set the version
+    with Store(path) as store:  # make a version-1 file: drop what version 2 added
         store.execute("ALTER TABLE ballots DROP COLUMN topic")
+        store.execute("ALTER TABLE group_agreement DROP COLUMN low")
+        store.execute("ALTER TABLE group_agreement DROP COLUMN high")
+        store.execute("DROP TABLE subset_metrics")
+        store.execute("DROP TABLE subset_trends")
         store.execute("UPDATE meta SET value = '1' WHERE key = 'schema_version'")
     with Store(path) as store:
         assert store.scalar("SELECT value FROM meta WHERE key = 'schema_version'") == \
             str(SCHEMA_VERSION)
         cols = [r[0] for r in store.rows("SELECT column_name FROM (DESCRIBE ballots)")]
         assert "topic" in cols
+        cols = [r[0] for r in store.rows("SELECT column_name FROM (DESCRIBE group_agreement)")]
+        assert {"low", "high"} <= set(cols)
+        assert store.scalar("SELECT count(*) FROM subset_metrics") == 0
