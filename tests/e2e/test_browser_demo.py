@@ -35,6 +35,7 @@ def demo(tmp_path_factory):
 
 def _headline_parts(metrics: pd.DataFrame, body: str) -> list[str]:
     rows = metrics[(metrics.body == body) & (metrics.metric == "group_modularity")
+                   & (metrics.subset == "all")
                    & metrics.value.notna()].sort_values("period_start")
     first, last = rows.iloc[0], rows.iloc[-1]
 
