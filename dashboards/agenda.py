@@ -113,20 +113,37 @@ def split_sentence(metrics: pd.DataFrame, subsets: pd.DataFrame, metric: str) ->
     raw = metrics[metrics["metric"] == metric]
     both = (period_table(metrics).merge(raw[["period", "value"]], on="period")
             .merge(std[["period", "value"]], on="period", suffixes=("_raw", "_std"))
-            .dropna(subset=["value_raw", "value_std"]))
+            .dropna(subset=["value_raw", "value_std"]).reset_index(drop=True))
     if len(both) < 2:
         return None
-    first, last = both.iloc[0], both.iloc[-1]
+    text = _split(both.iloc[0], both.iloc[-1], metric)
+    # The step between neighbouring periods where the agenda's mix moved the figure most
+    # (a shift in some years can cancel out between the first and the last period).
+    gap = (both["value_raw"] - both["value_std"]).diff().abs()
+    k = int(gap.idxmax()) if gap.notna().any() else 0
+    if len(both) > 2 and k > 0 and numbers.fmt(gap.iloc[k]) != "0.00":
+        text += " The agenda's mix moved the figure most " + _split(
+            both.iloc[k - 1], both.iloc[k], metric, step=True)
+    return text
+
+
+def _split(first, last, metric: str, *, step: bool = False) -> str:
+    """One sentence: the raw change between two periods, the standardised one, the rest."""
     d_raw = last["value_raw"] - first["value_raw"]
     d_std = last["value_std"] - first["value_std"]
     label = labels.info(metric).label
-    word = "rose" if d_raw > 0 else "fell" if d_raw < 0 else "stayed at"
+    word = "rose" if d_raw > 0 else "fell" if d_raw < 0 else "changed"
 
     def amount(v: float) -> str:
         return numbers.fmt(abs(v))
 
     std_word = "rose" if d_std > 0 else "fell" if d_std < 0 else "did not move"
     name = labels.in_sentence(label)
+    if step:
+        return (f"between {first['period']} and {last['period']}: {name} {word} by "
+                f"{amount(d_raw)} while with the agenda held fixed it {std_word}"
+                f"{'' if d_std == 0 else ' by ' + amount(d_std)}; the mix of topics accounts "
+                f"for about {numbers.fmt(d_raw - d_std)} of that step.")
     return (f"From {first['period']} to {last['period']} {name} {word} by {amount(d_raw)}; "
             f"with the agenda held at the reference topic mix it {std_word}"
             f"{'' if d_std == 0 else ' by ' + amount(d_std)}, so the changing mix of topics "

@@ -47,6 +47,14 @@ def test_split_adds_up_to_the_raw_change():
     assert "approximate" in text and "not a linear function" in text
 
 
+def test_the_step_where_the_agenda_mattered_most_is_named():
+    # raw and standardised agree except for a bump in 2002 that only the raw series has
+    t = ReportTables(metrics=_metrics([0.10, 0.30, 0.12], [0.10, 0.11, 0.12]))
+    text = split_sentence(t.metrics, t.subset_metrics, "group_modularity")
+    assert "about 0.00 of the change" in text  # first to last: no agenda effect
+    assert "most between 2001 and 2002" in text and "about 0.19 of that step" in text
+
+
 def test_no_standardised_series_no_sentence():
     m = _metrics([0.1, 0.2, 0.3], [0.1, 0.1, 0.1])
     t = ReportTables(metrics=m[m["subset"] == "all"])
