@@ -253,12 +253,16 @@ def export(store_path, table, fmt, body, out, wait):
     """Export a results table (text cells safe to open in a spreadsheet)."""
     from blocwatch.pipeline.ops.readers import reading_store
     from blocwatch.pipeline.report.export import export_frame, write_frame
+    from blocwatch.pipeline.store.bodies import period_specs, require_body
 
     with reading_store(resolve_store(store_path), wait) as store:
         frame = export_frame(store, table, body=body)
+        specs = period_specs(store, require_body(store, body))
     path = write_frame(frame, fmt, out)
     if path is not None:
         click.echo(f"wrote {len(frame)} rows to {path}", err=True)
+    click.echo("periods: " + "; ".join(f"{b}: period spec {s!r}" for b, s in specs.items()),
+               err=True)
 
 
 @cli.command()

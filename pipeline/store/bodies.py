@@ -10,6 +10,7 @@ one transaction.
 from __future__ import annotations
 
 import difflib
+import json
 
 from blocwatch.pipeline.errors import StoreError, UsageError
 from blocwatch.pipeline.store.database import Store
@@ -111,3 +112,15 @@ def remove_body(store: Store, body: str) -> dict[str, int]:
         for table in BODY_TABLES:
             store.execute(f"DELETE FROM {table} WHERE body = ?", [body])
     return removed
+
+
+def period_specs(store: Store, bodies: list[str]) -> dict[str, str]:
+    """The period spec each body's stored results were cut with: the ``period`` parameter of
+    the run that wrote its newest period (a build drops the periods of any other spec)."""
+    out = {}
+    for body in bodies:
+        params = store.scalar("SELECT r.params FROM periods p JOIN runs r USING (run_id) "
+                              "WHERE p.body = ? ORDER BY p.run_id DESC LIMIT 1", [body])
+        if params:
+            out[body] = str(json.loads(params).get("period", "?"))
+    return out

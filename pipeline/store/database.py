@@ -240,8 +240,13 @@ class Store:
         self._depth = 0
         if not read_only:
             migrate(self.con)
-        else:
-            _check_version(self.con)
+        elif 0 < (version := _check_version(self.con)) < SCHEMA_VERSION:
+            # a reader cannot migrate (read-only), and older tables would fail its queries
+            self.con.close()
+            raise StoreError(f"store {self.path}", f"has schema version {version}, older than "
+                             f"this blocwatch ({SCHEMA_VERSION})",
+                             "run a command that writes it once (e.g. 'blocwatch build' or "
+                             "'blocwatch rebuild'), which upgrades it in place")
 
     # -- lifecycle -------------------------------------------------------------------------
     def close(self) -> None:

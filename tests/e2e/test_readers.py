@@ -86,6 +86,20 @@ def test_reader_waits_for_the_run_to_finish_then_reads(run_cli, store):
     assert proc.returncode == 0, proc.stderr
     assert proc.stdout.splitlines()[0].startswith("body,period,")
     assert len(proc.stdout.splitlines()) > 1
+    assert "periods: Toy Council: period spec 'year'" in proc.stderr  # says which spec
+
+
+def test_a_reader_on_an_older_store_says_how_to_upgrade_it(run_cli, store):
+    """A reader opens read-only and cannot migrate: an old schema is a message, not a crash."""
+    with Store(store) as s:  # as a version-1 file reads: version 1 recorded, newer table gone
+        s.execute("DROP TABLE subset_trends")
+        s.execute("UPDATE meta SET value = '1' WHERE key = 'schema_version'")
+    proc = run_cli("export", "--table", "trends")
+    assert proc.returncode == 1 and proc.stdout == ""
+    assert "has schema version 1, older than this blocwatch" in proc.stderr
+    assert "Catalog" not in proc.stderr and "\n" not in proc.stderr.strip()
+    assert run_cli("build", "--bootstrap", "0", "--permutations", "0").returncode == 0
+    assert run_cli("export", "--table", "trends").returncode == 0
 
 
 # -- names that do not exist, results not built, bodies added by mistake --------------------
