@@ -1,0 +1,53 @@
+"""The house's size limits: small modules, folders a reader can take in at a glance.
+
+Limits (common practice for this project, set in issue 11): no module over 400 lines, no
+folder over 20 modules (``__init__.py`` not counted), ``pipeline/`` itself at most 12.
+"""
+
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[2]
+PACKAGES = ("pipeline", "metrics", "dashboards")
+MAX_LINES = 400
+MAX_MODULES = 20
+MAX_PIPELINE_TOP = 12
+# Over the limits today, with the size they may not exceed (the numbers may only fall; issue 11
+# asks for the splits): dashboards/ and metrics/ are to get rooms of their own, the CLI is to be
+# split by command group, the store's schema apart from its connection.
+OVER_TODAY = {"dashboards": 25, "metrics": 21}
+LONG_TODAY = {"pipeline/cli/main.py": 532, "pipeline/store/database.py": 515}
+
+
+def _folders():
+    for pkg in PACKAGES:
+        for folder in sorted({p.parent for p in (ROOT / pkg).rglob("*.py")}):
+            if "__pycache__" not in folder.parts:
+                yield folder
+
+
+def _modules(folder: Path) -> list[Path]:
+    return [p for p in folder.glob("*.py") if p.name != "__init__.py"]
+
+
+@pytest.mark.parametrize("folder", list(_folders()), ids=lambda p: str(p.relative_to(ROOT)))
+def test_folder_size(folder):
+    name = str(folder.relative_to(ROOT))
+    limit = MAX_PIPELINE_TOP if name == "pipeline" else OVER_TODAY.get(name, MAX_MODULES)
+    assert len(_modules(folder)) <= limit, f"{name} holds {len(_modules(folder))} modules"
+
+
+@pytest.mark.parametrize("path", [p for f in _folders() for p in sorted(f.glob("*.py"))],
+                         ids=lambda p: str(p.relative_to(ROOT)))
+def test_module_size(path):
+    lines = len(path.read_text(encoding="utf-8").splitlines())
+    limit = LONG_TODAY.get(str(path.relative_to(ROOT)), MAX_LINES)
+    assert lines <= limit, f"{path.relative_to(ROOT)} has {lines} lines"
+
+
+def test_the_limits_can_fail(tmp_path):
+    big = tmp_path / "big.py"
+    big.write_text("x = 1\n" * (MAX_LINES + 1))
+    assert len(big.read_text().splitlines()) > MAX_LINES
+    assert len(_modules(ROOT / "dashboards")) > MAX_MODULES  # why OVER_TODAY exists
