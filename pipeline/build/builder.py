@@ -14,9 +14,10 @@ from blocwatch.metrics.trends import trend_summary
 from blocwatch.pipeline.build.compute import PeriodResult
 from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.build.executors import Executor, ExecutorSpec, PeriodJob, make_executor
-from blocwatch.pipeline.build.planner import BodyPlan, bodies, body_options, plan_body
+from blocwatch.pipeline.build.planner import BodyPlan, body_options, plan_body
 from blocwatch.pipeline.build.subset_trends import subset_trend_rows
 from blocwatch.pipeline.store.runs import finish_run, start_run, tool_version
+from blocwatch.pipeline.store.bodies import require_body
 from blocwatch.pipeline.store.database import Store
 
 RESULT_TABLES = ("period_metrics", "member_metrics", "group_agreement", "subset_metrics")
@@ -150,7 +151,7 @@ def build(store: Store, *, body: str | None = None, options: BuildOptions | None
     """
     opts = options or BuildOptions()
     version = tool_version()
-    targets = bodies(store, body)
+    targets = require_body(store, body)
     with recorded_run(store, command, {"body": body, **opts.params()}, executor,
                       inputs) as (report, pool):
         for b in targets:

@@ -72,10 +72,11 @@ def write_vote_partitions(store, root: str | Path, *, period_spec: str = "year",
                           body: str | None = None) -> list[Path]:
     """Write each body × period of ``store`` as a vote partition under ``root`` (plus
     ``period.json`` with the period's bounds and the members left out for want of a group)."""
-    from blocwatch.pipeline.build.planner import bodies, plan_body
+    from blocwatch.pipeline.build.planner import plan_body
+    from blocwatch.pipeline.store.bodies import require_body
 
     written = []
-    for b in bodies(store, body):
+    for b in require_body(store, body):
         dates = dict(store.rows("SELECT ballot_id, held_on FROM ballots WHERE body = ?", [b]))
         for vm in plan_body(store, b, period_spec).matrices(store):
             period = vm.period

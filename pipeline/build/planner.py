@@ -27,8 +27,8 @@ from blocwatch.pipeline.build.compute import fingerprint
 from blocwatch.pipeline.build.matrices import VoteMatrix, ballot_date_range, load_votes
 from blocwatch.pipeline.build.periods import make_periods
 from blocwatch.pipeline.build.topics import NO_TOPIC
-from blocwatch.pipeline.options import BuildOptions, Period
 from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.options import BuildOptions, Period
 from blocwatch.pipeline.store.database import Store
 from blocwatch.pipeline.store.runs import tool_version
 
@@ -70,20 +70,6 @@ class BodyPlan:
             vm = load_votes(store, self.body, period)
             if vm.votes.size:
                 yield vm
-
-
-def bodies(store: Store, body: str | None = None) -> list[str]:
-    """The named body (checked) or every body in the store."""
-    known = [r[0] for r in store.rows("SELECT body FROM bodies ORDER BY body")]
-    if body is None:
-        if not known:
-            raise UsageError("build", "the store holds no ballots",
-                             "load some with 'blocwatch ingest' first")
-        return known
-    if body not in known:
-        raise UsageError(f"body {body!r}", "is not in the store",
-                         f"use one of: {', '.join(known) or '(none loaded)'}")
-    return [body]
 
 
 def body_periods(store: Store, body: str, spec: str) -> list[Period]:

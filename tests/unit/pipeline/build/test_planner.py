@@ -9,7 +9,7 @@ import pytest
 
 from blocwatch.pipeline.build.builder import build
 from blocwatch.pipeline.build.compute import fingerprint
-from blocwatch.pipeline.build.planner import Stale, bodies, plan_body, stale_periods
+from blocwatch.pipeline.build.planner import Stale, plan_body, stale_periods
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.store.runs import tool_version
 from tests import toy_rollcall as toy
@@ -88,7 +88,7 @@ def test_only_limits_the_work_and_counts_the_rest_as_skipped(store):
     assert report.periods == [("Toy", "2020")] and report.skipped == [("Toy", "2019")]
 
 
-def test_bodies_names_the_known_ones_when_asked_for_another(store):
-    assert bodies(store) == ["Toy"]
-    with pytest.raises(UsageError, match="use one of: Toy"):
-        bodies(store, "Nowhere")
+def test_build_checks_the_body_against_the_store(store):
+    with pytest.raises(UsageError, match="did you mean 'Toy'"):
+        build(store, body="Toyy", options=toy.fast_options())
+    assert store.rows("SELECT count(*) FROM runs") == [(0,)]
