@@ -137,6 +137,8 @@ def _split(first, last, metric: str, *, step: bool = False) -> str:
     def amount(v: float) -> str:
         return numbers.fmt(abs(v))
 
+    if numbers.fmt_change(d_std) is None:  # rounds to zero: no direction to claim
+        d_std = 0.0
     std_word = "rose" if d_std > 0 else "fell" if d_std < 0 else "did not move"
     name = labels.in_sentence(label)
     if step:
