@@ -36,6 +36,7 @@ from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.ops.lock import store_lock
 from blocwatch.pipeline.ops.scan_load import load_scan
 from blocwatch.pipeline.options import BuildOptions
+from blocwatch.pipeline.store.bodies import close_matches
 from blocwatch.pipeline.store.database import Store
 
 _CHUNK = 1 << 20
@@ -182,8 +183,10 @@ def rebuild(store_path: str | Path, *, options: BuildOptions | None = None,
     opts = options or BuildOptions()
     cfg = config or active_config()
     if body is not None and cfg.bodies and body not in cfg.bodies:
+        near = close_matches(body, list(cfg.bodies))
+        hint = f"did you mean {near[0]!r}? " if near else ""
         raise UsageError(f"body {body!r}", "is not configured",
-                         f"use one of: {', '.join(cfg.bodies)} (the [bodies] tables)")
+                         f"{hint}use one of: {', '.join(cfg.bodies)} (the [bodies] tables)")
     report = RebuildReport()
     with store_lock(store_path, "rebuild"):
         with Store(store_path) as store:

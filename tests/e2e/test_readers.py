@@ -124,6 +124,13 @@ def test_report_of_a_period_not_built_names_the_built_ones(run_cli, store, tmp_p
     assert not (tmp_path / "rep").exists()
 
 
+def test_build_of_a_misspelt_body_names_the_close_one(run_cli, store):
+    before = _hash(store)
+    proc = run_cli("build", "--body", "Toy Counsil")
+    assert proc.returncode == 2 and "did you mean 'Toy Council'?" in proc.stderr
+    assert _hash(store) == before
+
+
 def test_status_of_a_misspelt_body(run_cli, store):
     proc = run_cli("status", "--body", "toy council")
     assert proc.returncode == 2
