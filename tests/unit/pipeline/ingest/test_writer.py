@@ -29,6 +29,7 @@ def _load(store, ballots, votes, *, replace=False, stored=(), spells=NO_SPELLS,
     then write them in one transaction as ingest does."""
     frame = pd.DataFrame(ballots, columns=["body", "ballot_id", "held_on", "title", "item"])
     frame["stored_on"] = [date(2020, 1, 1) if b in stored else None for b in frame["ballot_id"]]
+    frame["topic"] = None  # the staged ballots table carries each ballot's topic (none here)
     store.stage_frame("_bw_tb", frame)
     store.stage_frame("_bw_tv", pd.DataFrame(votes, columns=["body", "ballot_id", "member_id",
                                                              "raw", "choice"]))
