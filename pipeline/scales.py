@@ -187,8 +187,9 @@ def number_text(value: float) -> str:
 
 
 def read_answer(raw: object, scale: Scale, mapping: Mapping[str, str] | None = None
-                ) -> tuple[str, float | None] | str:
-    """``(choice, score)`` for one answer on a scored ballot, or the reason it is refused.
+                ) -> tuple[str, float | None]:
+    """``(choice, score)`` for one answer on a scored ballot; a refused answer raises
+    :class:`ValueError` whose message says why.
 
     Blank means absent; an option (categorical) or a number in range (ordinal, continuous)
     is an answer; otherwise the vote codes may still say abstain or absent.
@@ -196,8 +197,9 @@ def read_answer(raw: object, scale: Scale, mapping: Mapping[str, str] | None = N
     >>> s = parse_scale("ordinal:1..9")
     >>> read_answer("4.0", s), read_answer("", s), read_answer("abstain", s)
     (('4', 4.0), ('absent', None), ('abstain', None))
-    >>> print(read_answer("11", s))
-    '11' is outside the range 1..9 of this ordinal ballot
+    >>> read_answer("11", s)
+    Traceback (most recent call last):
+    ValueError: '11' is outside the range 1..9 of this ordinal ballot
     """
     key = normalise(raw)
     if key == "":
@@ -213,14 +215,15 @@ def read_answer(raw: object, scale: Scale, mapping: Mapping[str, str] | None = N
             value = None
         if value is not None:
             if not math.isfinite(value):
-                return f"{show(raw)} is not a finite number"
+                raise ValueError(f"{show(raw)} is not a finite number")
             if scale.low is not None and not scale.low <= value <= scale.high:
-                return (f"{show(raw)} is outside the range {scale.low:g}..{scale.high:g} of "
-                        f"this {scale.kind} ballot")
+                raise ValueError(f"{show(raw)} is outside the range {scale.low:g}.."
+                                 f"{scale.high:g} of this {scale.kind} ballot")
             return number_text(value), value
     coded = choice_of(raw, dict(mapping) if mapping else None)
     if coded in ("abstain", "absent"):
         return coded, None
     if scale.kind == "categorical":
-        return f"{show(raw)} is not one of the options {show('|'.join(scale.options))}"
-    return f"{show(raw)} is not a number (nor abstain/absent)"
+        raise ValueError(f"{show(raw)} is not one of the options "
+                         f"{show('|'.join(scale.options))}")
+    raise ValueError(f"{show(raw)} is not a number (nor abstain/absent)")

@@ -144,13 +144,15 @@ def _stage_answers(store, votes: dict, scales: dict, mapping, problems) -> None:
                                ON x.body = t.body AND x.ballot_id = t.ballot_id
                                WHERE x.scale <> 'binary' GROUP BY ALL ORDER BY min(t.rid)""")
         for body, ballot, raw, n, rid in pairs:
-            got = read_answer(raw, scales[(body, ballot)], mapping)
-            if isinstance(got, str):
+            try:
+                got = read_answer(raw, scales[(body, ballot)], mapping)
+            except ValueError as refused:
                 add_row_problem(problems, s, "scale", rid, "raw", raw,
-                                f"ballot {show(ballot)}: {got}",
+                                f"ballot {show(ballot)}: {refused}",
                                 "correct the answer, or the ballot's declared scale (--scale, "
                                 "or the scale/scale_min/scale_max/options columns)", count=n)
-            elif (body, ballot, raw) not in seen:
+                continue
+            if (body, ballot, raw) not in seen:
                 seen.add((body, ballot, raw))
                 out.append((body, ballot, raw, got[0], got[1]))
     frame = pd.DataFrame(out, columns=["body", "ballot_id", "raw", "choice", "score"])
