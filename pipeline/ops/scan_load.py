@@ -89,8 +89,10 @@ def _stopped(exc: BlocwatchError, group: Group, cfg: Config, pending: list) -> B
             f"(stopped by {group.state} {files})" if others else
             "; nothing was loaded")
     fix = config_fix(exc.fix, group.body, cfg) if exc.fix else "fix the file"
-    new = type(exc)(exc.what, config_fix(exc.why, group.body, cfg), fix + rest)
-    new.__cause__ = exc
+    new = type(exc).__new__(type(exc))  # same class and exit code, without its constructor
+    new.__dict__.update(exc.__dict__)
+    new.why, new.fix = config_fix(exc.why, group.body, cfg), fix + rest
+    new.args = (new.line(),)
     return new
 
 
