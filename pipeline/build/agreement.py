@@ -18,8 +18,6 @@ import numpy as np
 
 from blocwatch.metrics.registry import ABSTAIN, NO, YES
 from blocwatch.metrics.scales import ratio_matrix
-from blocwatch.pipeline.options import AgreementOptions
-
 
 # Largest total weight for the √w route: each term then carries at most ~2⁻²² of rounding, so
 # a count's error stays far below ½ and rounding restores the exact whole number.

@@ -12,13 +12,13 @@ import pandas as pd
 
 from blocwatch.metrics.trends import trend_summary
 from blocwatch.pipeline.build.compute import PeriodResult
-from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.build.executors import Executor, ExecutorSpec, PeriodJob, make_executor
 from blocwatch.pipeline.build.planner import BodyPlan, body_options, plan_body
 from blocwatch.pipeline.build.subset_trends import subset_trend_rows
-from blocwatch.pipeline.store.runs import finish_run, start_run, tool_version
+from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.store.bodies import require_body
 from blocwatch.pipeline.store.database import Store
+from blocwatch.pipeline.store.runs import finish_run, start_run, tool_version
 
 RESULT_TABLES = ("period_metrics", "member_metrics", "group_agreement", "subset_metrics")
 

@@ -26,7 +26,7 @@ from blocwatch.pipeline.build.graphs import build_graph
 from blocwatch.pipeline.build.matrices import VoteMatrix
 from blocwatch.pipeline.build.scored_agreement import scored_period_input
 from blocwatch.pipeline.build.topics import SUBSET_COLUMNS, subset_rows
-from blocwatch.pipeline.options import AgreementOptions, BuildOptions, parse_rule
+from blocwatch.pipeline.options import BuildOptions, parse_rule
 
 METRIC_COLUMNS = ["metric", "value", "low", "high", "null_mean", "null_z", "null_p", "note"]
 

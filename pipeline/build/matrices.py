@@ -13,8 +13,8 @@ import numpy as np
 import pandas as pd
 
 from blocwatch.metrics.registry import ABSTAIN, MISSING, NO, YES
-from blocwatch.pipeline.options import Period
 from blocwatch.pipeline.build.scored import attach_scales
+from blocwatch.pipeline.options import Period
 from blocwatch.pipeline.store.database import Store
 
 CHOICE_CODES = {"yes": YES, "no": NO, "abstain": ABSTAIN, "absent": MISSING}

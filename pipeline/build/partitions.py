@@ -5,12 +5,12 @@ Layout (``root`` is any folder a worker can read, e.g. a shared file system)::
     root/body=<body>/period=<period>/votes.parquet      one period's votes, long
     results/body=<body>/period=<period>/{metrics,members,groups,subsets}.parquet + period.json
 
-Names are percent-encoded in folder names (``body=Assembly%20of%20X``). ``votes.parquet``
-holds one row per member × ballot with the columns ``member_id, name, group, ballot_id, item,
-held_on, choice`` (choice: yes/no/abstain/absent; ``group``: the member's group in this
-period) and optionally ``topic`` (the ballot's topic); an optional ``period.json`` gives ``start``, ``end`` (else the first and last ballot
-dates) and ``dropped``. :func:`write_vote_partitions` writes both from a store; any tool can.
-Yes/no ballots only: scored ballots are built from the store.
+Names are percent-encoded in folder names (``body=Assembly%20of%20X``). ``votes.parquet`` holds
+one row per member × ballot with the columns ``member_id, name, group, ballot_id, item, held_on,
+choice`` (choice: yes/no/abstain/absent; ``group``: the member's group in this period) and
+optionally ``topic`` (the ballot's topic); an optional ``period.json`` gives ``start``, ``end``
+(else the first and last ballot dates) and ``dropped``. :func:`write_vote_partitions` writes
+both from a store; any tool can. Yes/no ballots only: scored ballots are built from the store.
 
 A worker turns its partition into the vote matrix, runs
 :func:`~blocwatch.pipeline.build.compute.compute_period` and writes the result partition; the one
@@ -30,8 +30,8 @@ from urllib.parse import quote, unquote
 import numpy as np
 import pandas as pd
 
-from blocwatch.pipeline.errors import BadInputError, UsageError
 from blocwatch.pipeline.build.matrices import CHOICE_CODES, VoteMatrix
+from blocwatch.pipeline.errors import BadInputError, UsageError
 from blocwatch.pipeline.options import Period
 
 VOTE_COLUMNS = ["member_id", "name", "group", "ballot_id", "item", "held_on", "choice"]
@@ -203,10 +203,36 @@ def build_partitions(store, root: str | Path, results: str | Path, *, body: str 
                          "write the partitions first (see blocwatch.pipeline.build.partitions)")
     with recorded_run(store, "build", {"partitions": str(root), "body": body, **opts.params()},
                       executor) as (report, pool):
-        job = PartitionJob(opts, tool_version(), str(results))
-        for folder, seconds in pool.map(job, tasks):
-            store_result(store, report, read_result(folder), seconds, progress)
         for b in sorted({b for b, _, _ in tasks}):
+            # The body's reference topic mix is part of every period's fingerprint, as in a
+            # normal build, so both ways of building store the same rows.
+            mine = [t for t in tasks if t[0] == b]
+            job = PartitionJob(_partition_options(mine, opts), tool_version(), str(results))
+            for folder, seconds in pool.map(job, mine):
+                store_result(store, report, read_result(folder), seconds, progress)
             drop_stale_periods(store, b, [p for bb, p, _ in tasks if bb == b])
             write_trends(store, report.run_id, b)
     return report
+
+
+def _partition_options(tasks: list[tuple[str, str, str]], opts):
+    """``opts`` with the body's reference topic mix worked out from its vote partitions (the
+    results store holds no ballots), exactly as :func:`~blocwatch.pipeline.build.planner.
+    body_options` does from a store: pooled over every period, or one named period's."""
+    import dataclasses
+
+    from blocwatch.pipeline.build.planner import topic_mix
+
+    chosen = [t for t in tasks if opts.topic_reference in ("pooled", t[1])]
+    if opts.topic_reference != "pooled" and not chosen:
+        raise UsageError(f"topic reference {opts.topic_reference!r}",
+                         "is not a period of the partitions",
+                         f"use pooled or one of: {', '.join(p for _, p, _ in tasks[:10])}")
+    counts: dict[str, int] = {}
+    for _, _, folder in chosen:
+        frame = pd.read_parquet(Path(folder) / "votes.parquet")
+        topics = (frame.drop_duplicates("ballot_id")["topic"].fillna("").astype(str)
+                  if "topic" in frame else pd.Series("", index=range(frame["ballot_id"].nunique())))
+        for topic, n in topics.value_counts().items():
+            counts[topic] = counts.get(topic, 0) + int(n)
+    return dataclasses.replace(opts, topic_mix=topic_mix(counts.items()))

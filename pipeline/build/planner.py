@@ -98,9 +98,19 @@ def body_options(store: Store, body: str, opts: BuildOptions) -> BuildOptions:
                              f"use pooled or one of: {', '.join(list(periods)[:10])}")
         rows = store.rows(sql + " AND held_on BETWEEN ? AND ? GROUP BY 1",
                           [body, chosen.start, chosen.end])
-    total = sum(n for _, n in rows)
-    mix = sorted((t or NO_TOPIC, round(n / total, 12)) for t, n in rows)
-    return dataclasses.replace(opts, topic_mix=tuple(mix))
+    return dataclasses.replace(opts, topic_mix=topic_mix(rows))
+
+
+def topic_mix(counts) -> tuple:
+    """Each topic's share of ``counts`` ((topic, ballots) pairs; ``''`` = no topic), sorted.
+
+    ``()`` when no ballot has a topic, so bodies without topics keep their fingerprints.
+    """
+    counts = [(t, n) for t, n in counts if n]
+    if not any(t for t, _ in counts):
+        return ()
+    total = sum(n for _, n in counts)
+    return tuple(sorted((t or NO_TOPIC, round(n / total, 12)) for t, n in counts))
 
 
 def plan_body(store: Store, body: str, spec: str) -> BodyPlan:

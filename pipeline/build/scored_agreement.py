@@ -33,8 +33,8 @@ from blocwatch.metrics.scales import (
     ratio_matrix,
 )
 from blocwatch.pipeline.build.agreement import agreement_counts
-from blocwatch.pipeline.build.scored import answer_sets, kind_columns
 from blocwatch.pipeline.build.graphs import build_graph
+from blocwatch.pipeline.build.scored import answer_sets, kind_columns
 from blocwatch.pipeline.options import AGREEMENT_MEASURES, parse_rule
 from blocwatch.pipeline.scales import ALPHA_LEVEL
 

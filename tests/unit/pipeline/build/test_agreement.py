@@ -1,7 +1,6 @@
 """Agreement counts by one-hot matrix products, checked against the toy roll call's hand values
 (tests/toy_rollcall.py) and a pair loop; the filter rule on yes/no ballots."""
 
-from fractions import Fraction
 
 import numpy as np
 import pytest

@@ -5,8 +5,8 @@ from datetime import date
 import pytest
 
 from blocwatch.pipeline.build.periods import make_periods
-from blocwatch.pipeline.options import read_terms
 from blocwatch.pipeline.errors import BadInputError, UsageError
+from blocwatch.pipeline.options import read_terms
 
 
 def test_calendar_years():

@@ -10,12 +10,11 @@ from sklearn.metrics import cohen_kappa_score
 
 from blocwatch.metrics.registry import ABSTAIN, MISSING, NO, YES
 from blocwatch.pipeline.build.agreement import agreement_counts, agreement_matrix
-from blocwatch.pipeline.options import AgreementOptions
-from blocwatch.pipeline.build.matrices import VoteMatrix
-from blocwatch.pipeline.options import Period
 from blocwatch.pipeline.build.filters import filter_period
+from blocwatch.pipeline.build.matrices import VoteMatrix
 from blocwatch.pipeline.build.scored import ScaleMatrix
 from blocwatch.pipeline.build.scored_agreement import scored_agreement, scored_period_input
+from blocwatch.pipeline.options import AgreementOptions, Period
 from tests.toy_rollcall import VOTES as TOY
 
 Y, N, A, X = YES, NO, ABSTAIN, MISSING
