@@ -46,6 +46,8 @@ BODY_KEYS = {  # key -> (accepted TOML types, description for the message)
     "ballots": ((str,), "a ballots file path (wide layout)"),
     "replace": ((bool,), "true or false"),
     "scale": ((str,), "a scale spec like \"ordinal:1..5\" (as ingest --scale)"),
+    "date_format": ((str,), "the form of the dates as strptime writes it, e.g. \"%d.%m.%Y\""),
+    "sheet": ((str, int), "a sheet name, a number from 1, or \"all\""),
 }
 BODY_PATH_KEYS = ("members", "ballots")
 # Commands that take no flags from the file (init writes it; demo makes its own project).
@@ -213,9 +215,10 @@ def body_ingest_options(name: str, cfg: Config | None = None) -> dict:
     cfg = cfg or active_config()
     body = cfg.bodies.get(name, {})
     out: dict[str, Any] = {}
-    for key in ("members", "ballots", "layout", "columns", "codes", "scale"):
+    for key in ("members", "ballots", "layout", "columns", "codes", "scale", "date_format",
+                "sheet"):
         if key in body:
-            value = body[key]
+            value = str(body[key]) if key == "sheet" else body[key]
             if key in BODY_PATH_KEYS or (key == "codes" and isinstance(value, str)):
                 value = cfg.resolve(value)
             out[key] = value

@@ -131,6 +131,42 @@ def _single_body(cfg: Config, params: dict) -> dict[str, tuple[str, object]]:
     return {k: v for k, v in out.items() if k in params}
 
 
+def ingest_settings(ctx: click.Context, body: str | None, flags: dict) -> dict:
+    """``ingest_files`` keyword arguments: the ingest ``flags``, with the ``[bodies."body"]``
+    settings for those given nowhere else, and ``--column`` pairs parsed."""
+    from blocwatch.pipeline.ingest.readers import parse_column_options
+
+    out = {**flags, **body_table_defaults(ctx, body)}
+    out["columns"] = parse_column_options(out.get("columns"))
+    return out
+
+
+def body_table_defaults(ctx: click.Context, body: str | None) -> dict:
+    """The ``[bodies."body"]`` settings for the ingest flags that were given nowhere else.
+
+    The default map can only carry what a flag accepts, so an inline ``codes = { Ja = "yes" }``
+    table, and the tables of a body named with ``--body`` when several are configured, are
+    filled in here. Returns ``{parameter name: value}`` (paths resolved against the config).
+    """
+    from click.core import ParameterSource
+
+    from blocwatch.pipeline.config import active_config, body_ingest_options
+
+    cfg = active_config()
+    if body is None or body not in cfg.bodies:
+        return {}
+    out = {}
+    for key, value in body_ingest_options(body, cfg).items():
+        if ctx.get_parameter_source(key) != ParameterSource.DEFAULT:
+            continue  # given as a flag, in [ingest], or already from the single body's table
+        if key == "columns":
+            value = tuple(f"{k}={v}" for k, v in value.items())
+        elif not isinstance(value, (dict, str)):
+            value = str(value)  # a resolved path
+        out[key] = value
+    return out
+
+
 def default_map(cfg: Config, group: click.Group) -> dict[str, dict]:
     """click's ``default_map`` for ``group`` from ``cfg`` (every key checked and converted)."""
     sections = flag_sections(group)

@@ -506,23 +506,23 @@ def schedule(cron, systemd_dir, project, when, at, name, user):
 @click.option("--scale", default=None, metavar="SPEC",
               help="Scale of ballots that declare none: binary (default), categorical:A|B|C, "
                    "ordinal:LOW..HIGH, continuous[:LOW..HIGH]; kept as the body's default.")
+@click.option("--date-format", default=None, metavar="FORM", help="strptime form, e.g. %d.%m.%Y.")
+@click.option("--sheet", default=None, metavar="NAME|N|all", help="Workbook sheet (or all).")
+@click.pass_context
 @handle_errors
-def ingest(files, store_path, body, members, layout, codes, ballots, columns, replace, check,
-           scale):
+def ingest(ctx, files, store_path, body, check, **flags):
     """Load ballot files into the store, all or nothing (a file already loaded is skipped)."""
+    from blocwatch.pipeline.cli.flags import ingest_settings
     from blocwatch.pipeline.errors import EXIT_BAD_INPUT
     from blocwatch.pipeline.ingest.load import ingest_files, ingest_store
-    from blocwatch.pipeline.ingest.readers import parse_column_options
     from blocwatch.pipeline.store.bodies import new_body_warnings
 
+    settings = ingest_settings(ctx, body, flags)  # flags, then the body's [bodies."…"] table
     with ingest_store(resolve_store(store_path), check_only=check) as store:
         for line in new_body_warnings(store, body):
             click.echo(f"warning: {line}", err=True)
-        report = ingest_files(store, files, body=body, members=members, layout=layout,
-                              codes=codes, replace=replace, columns=parse_column_options(columns),
-                              ballots=ballots, check_only=check, scale=scale)
-    for line in report.lines():
-        click.echo(line)
+        report = ingest_files(store, files, body=body, check_only=check, **settings)
+    click.echo("\n".join(report.lines()))
     if check and report.problems:
         sys.exit(EXIT_BAD_INPUT)
 

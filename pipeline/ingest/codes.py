@@ -1,9 +1,12 @@
 """Vote codes: how a clerk's spelling of a vote becomes one of the four canonical choices.
 
 A raw code is first *normalised* — surrounding and repeated whitespace removed, case folded — and
-then looked up, first in the user's mapping file (``--codes FILE``), then in :data:`BUILTIN`.
-A blank or missing code means the member was absent. Anything else is an unknown code: the load
-stops and lists them all (see :mod:`blocwatch.pipeline.ingest.validate`).
+then looked up, first in the user's mapping (``--codes FILE`` or the body's ``codes`` table in
+``blocwatch.toml``), then in :data:`BUILTIN`. A blank or missing code means the member was absent
+(the one rule for empty cells; every load's summary counts them). Symbols in :data:`AMBIGUOUS`
+mean different things to different clerks, so they are refused until the user maps them.
+Anything else is an unknown code: the load stops and lists them all (see
+:mod:`blocwatch.pipeline.ingest.validate`).
 
 The mapping file is a UTF-8 CSV with the columns ``raw,choice``, for example::
 
@@ -33,12 +36,17 @@ CHOICES = ("yes", "no", "abstain", "absent")
 
 _SPELLINGS = {
     "yes": ("yes", "aye", "yea", "for", "y", "1", "+"),
-    "no": ("no", "nay", "against", "n", "0", "-"),
+    "no": ("no", "nay", "against", "n"),
     "abstain": ("abstain", "abstention", "present"),
     "absent": ("absent", "not voting", "excused", ""),
 }
 # Normalised code -> choice. The empty string stands for a blank cell.
 BUILTIN: dict[str, str] = {code: choice for choice, codes in _SPELLINGS.items() for code in codes}
+# Symbols whose meaning differs between clerks: refused until mapped, whatever the file says.
+AMBIGUOUS: dict[str, str] = {
+    "-": "clerks write it for 'no', for 'did not vote' and for 'not a member'",
+    "0": "it stands for 'no' in some files and for 'not a member' or 'did not vote' in others",
+}
 
 _SPACES = re.compile(r"\s+")
 
@@ -57,13 +65,22 @@ def normalise(code: object) -> str:
 def choice_of(code: object, mapping: dict[str, str] | None = None) -> str | None:
     """The canonical choice for ``code``, or ``None`` if neither table knows it.
 
+    An :data:`AMBIGUOUS` symbol is ``None`` unless ``mapping`` names it.
+
     >>> choice_of("AYE"), choice_of(" - "), choice_of(""), choice_of("maybe")
-    ('yes', 'no', 'absent', None)
+    ('yes', None, 'absent', None)
+    >>> choice_of("-", {"-": "absent"})
+    'absent'
     """
     key = normalise(code)
     if mapping and key in mapping:
         return mapping[key]
     return BUILTIN.get(key)
+
+
+def ambiguity(code: object) -> str | None:
+    """Why ``code`` is refused until mapped (see :data:`AMBIGUOUS`), or ``None``."""
+    return AMBIGUOUS.get(normalise(code))
 
 
 def resolve(raws: Iterable[object], mapping: dict[str, str] | None = None

@@ -9,7 +9,14 @@ is grouped once. Ballots are reduced to ``_bw_b{k}`` (one row per ballot and dis
 from __future__ import annotations
 
 from blocwatch.pipeline.ingest.codes import normalise
-from blocwatch.pipeline.ingest.validate import EXAMPLES, Problem, Problems, add_row_problem
+from blocwatch.pipeline.ingest.validate import (
+    EXAMPLES,
+    Problem,
+    Problems,
+    add_rest,
+    add_row_problem,
+    staged_unit,
+)
 from blocwatch.pipeline.safety import show
 from blocwatch.pipeline.store.database import Store
 
@@ -77,7 +84,8 @@ def reduce_votes(store: Store, staged, k: int, problems: Problems, *,
         if n > EXAMPLES:
             problems.add(Problem("duplicate", staged.name, f"{n - EXAMPLES} more member and "
                                  "ballot pairs are given twice with different votes",
-                                 "keep one row per member and ballot", count=n - EXAMPLES))
+                                 "keep one row per member and ballot", count=n - EXAMPLES,
+                                 unit=staged_unit(staged), rest=True))
     return table
 
 
@@ -145,12 +153,14 @@ def store_conflicts(store: Store, votes: str, staged_by_k: dict, problems: Probl
                           FROM {votes} n JOIN votes v ON v.body = n.body
                           AND v.ballot_id = n.ballot_id AND v.member_id = n.member_id
                           WHERE v.choice <> n.choice ORDER BY n.k, n.rid LIMIT {EXAMPLES}""")
-    for i, (k, rid, ballot, member, old, new, raw) in enumerate(rows):
+    fix = ("pass --replace to overwrite the stored votes of the ballots in this file, or "
+           "correct the file")
+    for k, rid, ballot, member, old, new, raw in rows:
         add_row_problem(problems, staged_by_k[k], "conflict", rid, "raw", raw,
                         f"member {show(member)} votes {_vote(raw, new)} on ballot {show(ballot)} "
-                        f"here, but the store holds {old}", "pass --replace to overwrite the "
-                        "stored votes of the ballots in this file, or correct the file",
-                        count=(n - len(rows) + 1) if i == len(rows) - 1 else 1)
+                        f"here, but the store holds {old}", fix)
+    add_rest(problems, staged_by_k[rows[-1][0]], "conflict", n - len(rows),
+             staged_unit(staged_by_k[rows[-1][0]]), "votes that differ from the stored ones", fix)
 
 
 def _vote(raw, choice: str) -> str:
@@ -199,14 +209,24 @@ def resolve_ballots(store: Store, vote_ballots: list[str], file_ballots: str | N
         FROM g LEFT JOIN ballots s ON s.body = g.body AND s.ballot_id = g.ballot_id""")
     n, = store.rows("SELECT count(*) FROM _bw_bal WHERE held_on IS NULL AND NOT bad_date")[0]
     if n:
-        for k, rid, ballot in store.rows(f"SELECT k, rid, ballot_id FROM _bw_bal WHERE held_on "
-                                         f"IS NULL AND NOT bad_date ORDER BY k, rid "
-                                         f"LIMIT {EXAMPLES}"):
+        fix = ("add a date column (or a date row under the header of a wide sheet), or pass "
+               "--ballots FILE with ballot_id,held_on")
+        cells = " + ".join(  # the votes of the undated ballots, per file (cells of a wide sheet)
+            f"(SELECT count(*) FROM {s.table} t JOIN _bw_bal b ON b.body = t.body AND "
+            f"b.ballot_id = t.ballot_id WHERE b.held_on IS NULL AND NOT b.bad_date)"
+            for s in staged_by_k.values() if s.kind == "votes")
+        touched = int(store.scalar(f"SELECT {cells}")) if cells else 0
+        units = {staged_unit(s) for s in staged_by_k.values() if s.kind == "votes"}
+        votes = f"{touched:,} {'cells' if units == {'cell'} else 'votes'}"
+        for i, (k, rid, ballot) in enumerate(store.rows(
+                f"SELECT k, rid, ballot_id FROM _bw_bal WHERE held_on IS NULL AND NOT bad_date "
+                f"ORDER BY k, rid LIMIT {EXAMPLES}")):
+            whole = f" ({n:,} ballots without a date hold {votes})" if i == 0 and n > 1 else ""
             add_row_problem(problems, staged_by_k[k], "date", rid, "ballot_id", ballot,
-                            f"ballot {show(ballot)} has no date", "add a date column (or a date "
-                            "row under the header of a wide sheet), or pass --ballots FILE with "
-                            "ballot_id,held_on", count=max(1, n - EXAMPLES + 1) if n > EXAMPLES
-                            else 1)
+                            f"ballot {show(ballot)} has no date{whole}", fix, unit="ballot")
+        if n > EXAMPLES:
+            add_rest(problems, staged_by_k[k], "date", n - EXAMPLES, "ballot",
+                     "ballots without a date", fix)
     if not replace:
         for k, rid, ballot, new, old in store.rows(
                 f"SELECT k, rid, ballot_id, held_on, stored_on FROM _bw_bal WHERE stored_on IS "

@@ -15,7 +15,9 @@ Decisions worth knowing:
   column. There is no guessing from file names.
 - **Absent rows are stored**, with ``choice = 'absent'`` and the original code in ``raw``
   (blank cells too, ``raw`` NULL). Readers treat a missing row the same way.
-- **Same file twice** (same sha256 for the same body) is skipped and reported ``unchanged``.
+- **Same file twice** (same sha256 for the same body) is skipped and reported ``unchanged``;
+  a workbook read with ``sheet=`` counts as the file plus the sheet named (see
+  :func:`~blocwatch.pipeline.ingest.sniff.load_key`), so each sheet can be loaded once.
 - **Conflicts.** A vote, ballot date or membership that differs from the stored one is an
   error unless ``replace=True``; then each ballot in the load replaces its stored version
   whole (see :mod:`~blocwatch.pipeline.ingest.writer`). Identical overlapping rows are fine.
@@ -28,14 +30,14 @@ from __future__ import annotations
 
 import contextlib
 from collections.abc import Iterator
-from dataclasses import dataclass, field
 from pathlib import Path
 
 import pandas as pd
 
 from blocwatch.pipeline.errors import BadInputError, UsageError
 from blocwatch.pipeline.ingest import codes as vote_codes
-from blocwatch.pipeline.ingest import conflicts, memberships, scale_answers, sniff, writer
+from blocwatch.pipeline.ingest import conflicts, dates, memberships, scale_answers, sniff, writer
+from blocwatch.pipeline.ingest.outcome import FileResult, IngestReport
 from blocwatch.pipeline.ingest.readers import FIELDS, KINDS, Staged, parse_columns, stage_file
 from blocwatch.pipeline.ingest.validate import (
     Problem,
@@ -44,6 +46,7 @@ from blocwatch.pipeline.ingest.validate import (
     check_bodies,
     check_dates,
     check_values,
+    staged_unit,
 )
 from blocwatch.pipeline.options import LAYOUTS
 from blocwatch.pipeline.safety import check_name, show
@@ -51,71 +54,11 @@ from blocwatch.pipeline.scales import parse_scale
 from blocwatch.pipeline.store.database import Store
 
 
-@dataclass
-class FileResult:
-    """What happened to one input file."""
-
-    path: str
-    sha256: str
-    rows: int
-    status: str  # 'loaded' | 'unchanged' | 'checked' | 'failed'
-    kind: str = "votes"  # votes | roster | ballots
-    bodies: tuple[str, ...] = ()
-    ballots: int = 0
-    members: int = 0
-
-    def summary(self) -> str:
-        short = self.sha256[:12]
-        if self.status == "unchanged":
-            return (f"unchanged {self.path}: already loaded (sha256 {short}…), nothing written")
-        body = ", ".join(self.bodies)
-        rows, ballots, members = (_n(self.rows, "row"), _n(self.ballots, "ballot"),
-                                  _n(self.members, "member"))
-        what = {"votes": f"{rows}, {ballots}, {members}",
-                "roster": f"{_n(self.rows, 'roster row')}, {members}",
-                "ballots": f"{rows}, {ballots}"}[self.kind]
-        return f"{self.status} {self.path}: {what}" + (f" (body {body})" if body else "") + \
-            f", sha256 {short}…"
-
-
-def _n(count: int, word: str) -> str:
-    return f"{count:,} {word}{'' if count == 1 else 's'}"
-
-
-@dataclass
-class IngestReport:
-    """The result of one :func:`ingest_files` call."""
-
-    files: list[FileResult]
-    problems: Problems = field(default_factory=Problems)
-    check_only: bool = False
-    votes_written: int = 0
-    notes: list[str] = field(default_factory=list)
-
-    @property
-    def rows(self) -> int:
-        return sum(f.rows for f in self.files if f.status == "loaded")
-
-    @property
-    def loaded(self) -> int:
-        return sum(f.status == "loaded" for f in self.files)
-
-    @property
-    def unchanged(self) -> int:
-        return sum(f.status == "unchanged" for f in self.files)
-
-    def lines(self) -> list[str]:
-        """One summary line per file (then the check report in check mode)."""
-        out = [f.summary() for f in self.files if not (self.check_only and f.status == "checked"
-                                                      and self.problems)]
-        if self.check_only:
-            out += self.problems.report()
-        return out + self.notes
-
-
 def ingest_files(store: Store, paths, *, body: str | None, members=None, layout: str = "long",
                  codes=None, replace: bool = False, columns: dict[str, str] | None = None,
-                 ballots=None, check_only: bool = False, scale=None) -> IngestReport:
+                 ballots=None, check_only: bool = False, scale=None,
+                 codes_via: str | None = None, date_format: str | None = None,
+                 sheet: str | None = None) -> IngestReport:
     """Load vote files (plus an optional roster and ballots file) into ``store`` atomically.
 
     Parameters
@@ -142,6 +85,16 @@ def ingest_files(store: Store, paths, *, body: str | None, members=None, layout:
     scale : str, optional
         Scale of the load's ballots that declare none (``ordinal:1..9``, …; see
         :mod:`blocwatch.pipeline.scales`), also stored as the body's default.
+    date_format : str, optional
+        The form of the files' dates (strptime, e.g. ``%d.%m.%Y``); default ISO, with
+        unambiguous day-first or month-first numeric dates detected (see
+        :mod:`~blocwatch.pipeline.ingest.dates`).
+    sheet : str, optional
+        Which sheet of an ``.xlsx`` workbook: a name, a number from 1, or ``all`` (every sheet,
+        stacked); default the first.
+    codes_via : str, optional
+        Where this caller's user maps a vote code (e.g. ``[bodies."X"] of blocwatch.toml`` for a
+        rebuild), for the message; default: the ``--codes`` flag or the body's config table.
 
     Returns
     -------
@@ -174,6 +127,9 @@ def ingest_files(store: Store, paths, *, body: str | None, members=None, layout:
     load = _Load(store, body=body, layout=layout, mapping=mapping, replace=replace,
                  overrides=overrides, check_only=check_only)
     load.scale = None if scale is None else parse_scale(scale)
+    load.problems.codes_via = codes_via
+    load.date_format = None if date_format is None else dates.check_format(date_format)
+    load.sheet = sheet
     try:  # staging and checks run outside the transaction: a DuckDB read error would abort it
         report = load.run(inputs)
         if report.problems and not check_only:
@@ -186,16 +142,32 @@ def ingest_files(store: Store, paths, *, body: str | None, members=None, layout:
 @contextlib.contextmanager
 def ingest_store(store_path: str | Path, *, check_only: bool = False) -> Iterator[Store]:
     """The store a load goes into: locked for writing; for a check, opened read-only (an empty
-    in-memory store if the file does not exist yet, so a check never creates one)."""
+    in-memory store if the file does not exist yet, so a check never creates one).
+
+    A first load that fails leaves no files behind: the store file it created (and DuckDB's
+    write-ahead log) and a lock file that did not exist before are removed while the lock is
+    still held, so no other run can have opened that store in between.
+    """
+    path = Path(store_path)
     if check_only:
-        exists = Path(store_path).exists()
-        with Store(store_path if exists else ":memory:", read_only=exists) as store:
+        exists = path.exists()
+        with Store(path if exists else ":memory:", read_only=exists) as store:
             yield store
         return
-    from blocwatch.pipeline.ops.lock import locked_store
+    from blocwatch.pipeline.ops.lock import lock_path, store_lock
 
-    with locked_store(store_path, "ingest") as store:
-        yield store
+    fresh = str(store_path) != ":memory:" and not path.exists()
+    lock = lock_path(path) if fresh else None
+    lock_is_new = lock is not None and not lock.exists()
+    with store_lock(path, "ingest"):
+        try:
+            with Store(path) as store:
+                yield store
+        except BaseException:
+            if fresh:
+                for leftover in (path, Path(f"{path}.wal")) + ((lock,) if lock_is_new else ()):
+                    leftover.unlink(missing_ok=True)
+            raise
 
 
 def _mapping(codes) -> dict[str, str] | None:
@@ -221,24 +193,31 @@ class _Load:
         self.notes: list[str] = []
         self.bad_members: set[str] = set()  # roster rows refused: no follow-up complaints
         self.scale = None  # --scale: the load's default ballot scale
+        self.date_format: str | None = None  # --date-format
+        self.sheet: str | None = None  # --sheet
 
     # -- stage every file ---------------------------------------------------------------------
     def run(self, inputs) -> IngestReport:
         seen: set[str] = set()
         for path, kind in inputs:
             info = sniff.scan(path)
-            if info.sha256 in seen or self._known(info.sha256):
-                self.results.append(FileResult(str(path), info.sha256, 0, "unchanged", kind))
+            sheet = self.sheet if kind == "votes" else None
+            sha = sniff.load_key(path, info.sha256, sheet)  # a sheet of a workbook: its own key
+            if sha in seen or self._known(sha):
+                self.results.append(FileResult(str(path), sha, 0, "unchanged", kind))
                 continue
-            seen.add(info.sha256)
+            seen.add(sha)
             k = len(self.results)
             staged = stage_file(self.store, path, kind=kind, table=f"_bw_s{k}", body=self.body,
                                 overrides=self.overrides, problems=self.problems,
                                 layout=self.layout if kind == "votes" else "long",
-                                scan_info=info)
-            self.results.append(FileResult(str(path), info.sha256, staged.rows if staged else 0,
+                                scan_info=info, sheet=sheet, notes=self.notes)
+            if staged is not None:
+                staged.sha256 = sha
+            self.results.append(FileResult(str(path), sha, staged.rows if staged else 0,
                                            "checked" if self.check_only else "loaded", kind))
             if staged is not None:
+                self.results[-1].unit = staged_unit(staged)
                 if self.body is None and "body" not in staged.headers:
                     self.problems.add(Problem("header", staged.name, "has no body column and no "
                                               "body was named", "pass --body NAME", line=1))
@@ -269,7 +248,9 @@ class _Load:
             self.results[k].bodies = tuple(bodies)
             for col in ("held_on", "valid_from", "valid_to"):
                 if col in s.headers:
-                    check_dates(store, s, col, problems, future_ok=s.kind == "roster")
+                    form = dates.normalise_dates(store, s, col, self.date_format, self.notes)
+                    check_dates(store, s, col, problems, future_ok=s.kind == "roster",
+                                fmt=form)
         votes = self.of("votes")
         scale_answers.stage_scales(store, self.staged, default=self.scale, replace=self.replace,
                                 mapping=self.mapping, problems=problems)
@@ -339,21 +320,24 @@ class _Load:
                                       "list_contains(?, body) LIMIT 1)", [bodies]))
 
     def _codes(self, votes: dict[int, Staged]) -> None:
+        """Map every distinct raw code; keep each file's tally for its summary line."""
         table: dict[object, str] = {"": "absent"}
-        for s in votes.values():
+        for k, s in votes.items():
             rows = self.store.rows(f"SELECT raw, count(*), min(rid) FROM {s.table} t WHERE NOT "
                                    "EXISTS (SELECT 1 FROM _bw_scales x WHERE x.body = t.body "
                                    "AND x.ballot_id = t.ballot_id AND x.scale <> 'binary') "
                                    "GROUP BY raw ORDER BY min(rid) LIMIT 100001")
             known, unknown = vote_codes.resolve([r[0] for r in rows], self.mapping)
             table.update({k: v for k, v in known.items() if k is not None})
+            self.results[k].codes = [(raw, known.get(raw), int(n)) for raw, n, _ in rows]
             info = {r[0]: r for r in rows}
+            fix = self.problems.code_fix(unknown[0]) if unknown else ""
             for raw in unknown:
                 _, n, rid = info[raw]
-                add_row_problem(self.problems, s, "code", rid, "raw", raw,
-                                f"{show(raw)} is not a known vote code",
-                                "add it to a mapping file (raw,choice) and pass --codes FILE",
-                                count=n)
+                reason = vote_codes.ambiguity(raw)
+                why = (f"{show(raw)} is refused until mapped: {reason}" if reason else
+                       f"{show(raw)} is not a known vote code")
+                add_row_problem(self.problems, s, "code", rid, "raw", raw, why, fix, count=n)
         self.store.stage_frame("_bw_codes", pd.DataFrame(
             {"raw": pd.Series(list(table), dtype=object).astype(str),
              "choice": pd.Series(list(table.values()), dtype=object)}))

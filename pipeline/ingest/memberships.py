@@ -16,7 +16,7 @@ import pandas as pd
 
 from blocwatch.pipeline.ingest import roster
 from blocwatch.pipeline.ingest.readers import Staged
-from blocwatch.pipeline.ingest.validate import EXAMPLES, add_row_problem
+from blocwatch.pipeline.ingest.validate import EXAMPLES, add_rest, add_row_problem, staged_unit
 from blocwatch.pipeline.safety import show
 
 _K = 1 << 40  # packs (file k, row) into one sortable BIGINT
@@ -114,25 +114,37 @@ def _coverage(load, stored, merged, affected, combined: str, bal: str, *,
           _bw_spells s WHERE s.body = n.body AND s.member_id = n.member_id)
           AND NOT list_contains(?, n.member_id)
         GROUP BY n.k, n.member_id ORDER BY n.k, min(n.rid)""", [sorted(load.bad_members)])
+    fix = "add the member to the roster file (--members), or give the votes file a group column"
     for k, rid, member, n in missing[:EXAMPLES * 4]:
         add_row_problem(load.problems, load.staged[k], "member", rid, "member_id", member,
-                        f"member {show(member)} is not in the roster (no group known)",
-                        "add the member to the roster file (--members), or give the votes "
-                        "file a group column", count=n)
+                        f"member {show(member)} is not in the roster (no group known)", fix,
+                        count=n)
+    for k in dict.fromkeys(r[0] for r in missing[EXAMPLES * 4:]):  # the rest, counted per file
+        rest = [r for r in missing[EXAMPLES * 4:] if r[0] == k]
+        add_rest(load.problems, load.staged[k], "member", sum(r[3] for r in rest),
+                 staged_unit(load.staged[k]), f"{staged_unit(load.staged[k])}s of {len(rest)} "
+                 "more members who are not in the roster", fix)
     # One row per member and date first (members x dates, not votes), then the spell test.
     uncovered = load.store.rows(f"""
         WITH d AS (SELECT n.body, n.member_id, b.held_on,
-                          min(n.k * {_K} + n.rid) AS key FROM {combined} n JOIN {bal} b
+                          min(n.k * {_K} + n.rid) AS key, count(*) AS n
+                   FROM {combined} n JOIN {bal} b
                    ON b.body = n.body AND b.ballot_id = n.ballot_id
                    WHERE n.choice <> 'absent' AND b.held_on IS NOT NULL
                    GROUP BY n.body, n.member_id, b.held_on)
-        SELECT key // {_K}, key % {_K}, member_id, held_on FROM d
+        SELECT key // {_K}, key % {_K}, member_id, held_on, n FROM d
         WHERE NOT list_contains(?, member_id) AND EXISTS (SELECT 1 FROM _bw_spells s
           WHERE s.body = d.body AND s.member_id = d.member_id) AND NOT EXISTS (SELECT 1
           FROM _bw_spells s WHERE s.body = d.body AND s.member_id = d.member_id AND
           d.held_on BETWEEN CAST(s.valid_from AS DATE) AND CAST(s.valid_to AS DATE))
-        ORDER BY key LIMIT {EXAMPLES}""", [sorted(load.bad_members)])
-    for k, rid, member, day in uncovered:
+        ORDER BY key""", [sorted(load.bad_members)])
+    fix = "extend the member's valid_from/valid_to in the roster"
+    for k, rid, member, day, n in uncovered[:EXAMPLES]:
         add_row_problem(load.problems, load.staged[k], "member", rid, "member_id", member,
                         f"member {show(member)} votes on {day} but has no group on that "
-                        "date", "extend the member's valid_from/valid_to in the roster")
+                        "date", fix, count=n)
+    for k in dict.fromkeys(r[0] for r in uncovered[EXAMPLES:]):  # the rest, counted per file
+        rest = [r for r in uncovered[EXAMPLES:] if r[0] == k]
+        add_rest(load.problems, load.staged[k], "member", sum(r[4] for r in rest),
+                 staged_unit(load.staged[k]), f"{staged_unit(load.staged[k])}s of members voting "
+                 f"on {len(rest)} more dates without a group on that date", fix)

@@ -120,12 +120,15 @@ def file_format(path: Path) -> str | None:
 
 
 def resolve_columns(names: list[str], kind: str, overrides: dict[str, str], *, file: str,
-                    problems: Problems, strict: bool = True) -> dict[str, int] | None:
+                    problems: Problems, strict: bool = True, where: str | None = None
+                    ) -> dict[str, int] | None:
     """Map fields to column positions; record problems and return ``None`` if one is missing.
 
     ``strict``: a ``--column`` override must exist in this file (votes files); otherwise it is
-    used only where the file has that column (roster and ballots files).
+    used only where the file has that column (roster and ballots files). ``where``: the header's
+    place in a spreadsheet (``sheet 'Votes', row 3``); without it, line 1 of a delimited file.
     """
+    at = {"line": 1} if where is None else {"where": where}
     required, optional, extra = KINDS[kind]
     folded = [n.strip().casefold() for n in names]
     found: dict[str, int] = {}
@@ -142,7 +145,7 @@ def resolve_columns(names: list[str], kind: str, overrides: dict[str, str], *, f
             if strict:
                 problems.add(Problem("header", file, f"has no column {show(want)} (named with "
                                      f"--column {opt}={want}); its columns are {_list(names)}",
-                                     "check the spelling of the column name", line=1))
+                                     "check the spelling of the column name", **at))
                 ok = False
                 continue
         aliases = FIELDS[opt][1] + extra.get(opt, ())
@@ -150,7 +153,7 @@ def resolve_columns(names: list[str], kind: str, overrides: dict[str, str], *, f
         if len(hits) > 1:
             problems.add(Problem("header", file, f"columns {_list([names[i] for i in hits])} "
                                  f"could each be the {opt} column", f"rename all but one, or pass "
-                                 f"--column {opt}=HEADER", line=1, column=names[hits[1]]))
+                                 f"--column {opt}=HEADER", **at, column=names[hits[1]]))
             ok = False
         elif hits:
             found[opt] = hits[0]
@@ -159,16 +162,16 @@ def resolve_columns(names: list[str], kind: str, overrides: dict[str, str], *, f
     if missing:
         accepted = "; ".join(f"{opt}: {', '.join(FIELDS[opt][1] + extra.get(opt, ()))}"
                              for opt in missing)
-        if len(names) == 1:
+        if len(names) == 1 and where is None:  # delimiter advice for delimited text only
             problems.add(Problem("header", file, f"has a single column {show(names[0], 40)}, so "
                                  f"its delimiter is not one of , ; tab |{_guess(names[0])}",
                                  "save the file as CSV with commas between the columns",
-                                 line=1, value=names[0]))
+                                 **at, value=names[0]))
         else:
             problems.add(Problem("header", file, f"has no {' or '.join(missing)} column; its "
                                  f"columns are {_list(names)} (accepted names — {accepted})",
                                  f"rename the column, or pass --column {missing[0]}=HEADER",
-                                 line=1, value=names))
+                                 **at, value=names))
         ok = False
     return found if ok else None
 
@@ -190,7 +193,8 @@ def _list(names: list[str]) -> str:
 
 def stage_file(store: Store, path: Path, *, kind: str, table: str, body: str | None,
                overrides: dict[str, str], problems: Problems, layout: str = "long",
-               scan_info: sniff.Scan | None = None) -> Staged | None:
+               scan_info: sniff.Scan | None = None, sheet: str | None = None,
+               notes: list[str] | None = None) -> Staged | None:
     """Stage one file; return ``None`` (with problems recorded) if it cannot be read at all."""
     name = str(path)
     fmt = file_format(path)
@@ -214,7 +218,7 @@ def stage_file(store: Store, path: Path, *, kind: str, table: str, body: str | N
 
         return wide.stage_grid(store, path, kind=kind, table=table, body=body, fmt=fmt,
                                layout=layout, overrides=overrides, problems=problems,
-                               scan_info=scan_info)
+                               scan_info=scan_info, sheet=sheet, notes=notes)
     from blocwatch.pipeline.ingest import formats
 
     stager = {"csv": formats.stage_csv, "parquet": formats.stage_parquet,

@@ -65,6 +65,15 @@ def scan(path: str | Path) -> Scan:
     return Scan(sha.hexdigest(), size, head, nul_count, first_nul, has_quote, has_blank)
 
 
+def load_key(path: str | Path, sha256: str, sheet: str | None) -> str:
+    """The key a load is remembered by: the file's sha256, or for a workbook read with a
+    ``--sheet`` choice, the sha256 of the file's sha256 and that choice (``all`` included), so
+    loading sheet 2 after sheet 1 is not mistaken for loading the same data twice."""
+    if sheet is None or Path(path).suffix.lower() not in (".xlsx", ".xlsm"):
+        return sha256
+    return hashlib.sha256(f"{sha256}\nsheet={sheet.strip()}".encode()).hexdigest()
+
+
 def lines_at_bytes(path: str | Path, offsets: Iterable[int]) -> dict[int, int]:
     """Physical line number (1-based) of each byte offset, in one streaming pass."""
     wanted = sorted(set(offsets))

@@ -12,10 +12,12 @@ fetched into Python.
 
 from __future__ import annotations
 
+import json
 from collections import Counter
 from dataclasses import dataclass, field
 
 from blocwatch.pipeline.errors import BadInputError
+from blocwatch.pipeline.ingest.codes import ambiguity
 from blocwatch.pipeline.safety import name_problem, show
 
 MAX_FIELD_CHARS = 1000  # ids, codes, group names, titles: anything longer is not a clerk's entry
@@ -37,7 +39,7 @@ KINDS = {
     "long": "over-long values",
     "name": "unusable body names",
     "date": "dates that cannot be used",
-    "code": "unknown vote codes",
+    "code": "vote codes without a mapping",
     "duplicate": "the same vote given twice, differently",
     "ballot": "ballots described two ways",
     "roster": "roster problems",
@@ -59,7 +61,9 @@ class Problem:
     where: str | None = None  # other formats: "row 7", "sheet 'Votes', cell D7"
     column: str | None = None  # the column as the file names it
     value: object = None  # the bad value itself (for tests and reports)
-    count: int = 1  # rows that share this problem
+    count: int = 1  # how many share this problem, in ``unit``s
+    unit: str = "row"  # row (of a long file), cell (of a wide sheet), ballot, member, …
+    rest: bool = False  # stands for the problems of its kind not shown one by one
 
     def place(self) -> str:
         """``file:line``, ``file, where`` or just the file."""
@@ -71,8 +75,22 @@ class Problem:
         return f"{place}, column {show(self.column)}" if self.column else place
 
     def text(self) -> str:
-        more = f" ({self.count} rows like this)" if self.count > 1 else ""
+        more = f" ({amount(self.count, self.unit)} like this)" if self.count > 1 and \
+            not self.rest else ""
         return f"{self.location()}: {self.why}{more}"
+
+
+def amount(n: int, unit: str) -> str:
+    """``1 row``, ``9,000 rows``, ``96 cells``."""
+    return f"{n:,} {unit}{'' if n == 1 else 's'}"
+
+
+def amounts(problems: list[Problem]) -> str:
+    """The counts of some problems, added up per unit: ``12 ballots, 3 rows``."""
+    totals: dict[str, int] = {}
+    for p in problems:
+        totals[p.unit] = totals.get(p.unit, 0) + p.count
+    return ", ".join(amount(n, unit) for unit, n in totals.items())
 
 
 @dataclass
@@ -80,6 +98,18 @@ class Problems:
     """Problems collected over one load, in the order found."""
 
     items: list[Problem] = field(default_factory=list)
+    # Where this run's user maps a vote code: a flag or config key (see ingest_files).
+    codes_via: str | None = None
+
+    def code_fix(self, code: object = "-") -> str:
+        """How to map ``code``, as fits the command that was run."""
+        example = f"{{ {json.dumps(str(code), ensure_ascii=False)} = \"yes|no|abstain|absent\" }}"
+        if self.codes_via:
+            return (f"map each to yes, no, abstain or absent: set codes = {example} in "
+                    f"{self.codes_via}")
+        return ("map each to yes, no, abstain or absent: pass --codes FILE (a CSV with the "
+                f"columns raw,choice) or set codes = {example} in the body's [bodies.\"NAME\"] "
+                "table of blocwatch.toml")
 
     def add(self, problem: Problem) -> None:
         self.items.append(problem)
@@ -105,7 +135,7 @@ class Problems:
         if first.kind == "code":
             codes = [p for p in ordered if p.kind == "code"]
             rest -= len(codes) - 1
-            err = unknown_codes_error(codes)
+            err = unknown_codes_error(codes, self.code_fix(codes[0].value))
         else:
             err = BadInputError(first.location(), first.why, first.fix)
         if rest > 0:
@@ -118,8 +148,14 @@ class Problems:
         if self.items:
             raise self.first_error()
 
-    def report(self) -> list[str]:
-        """Lines of the ``--check`` report: per file, per kind, counted, with examples."""
+    def report(self, read: dict[str, str] | None = None) -> list[str]:
+        """Lines of the ``--check`` report: per file, per kind, counted, with examples.
+
+        Counts are kept per kind and unit (rows of a long file, cells of a wide sheet, ballots,
+        members) and never added across kinds: a row with two problems is one row in each
+        kind's count, not two rows of the file. ``read``: file -> what was read (``9,000
+        rows``), shown on the file's line.
+        """
         if not self.items:
             return ["no problems found"]
         lines: list[str] = []
@@ -128,38 +164,44 @@ class Problems:
             by_file[p.file].append(p)
         for file, problems in by_file.items():
             kinds = Counter(p.kind for p in problems)
-            rows = sum(p.count for p in problems)
-            lines.append(f"{file}: {len(kinds)} kind{'s' if len(kinds) > 1 else ''} of problem, "
-                         f"{rows} row{'s' if rows != 1 else ''} affected")
+            got = f"{read[file]} read; " if read and file in read else ""
+            lines.append(f"{file}: {got}{len(kinds)} kind{'s' if len(kinds) > 1 else ''} of "
+                         "problem (each counted on its own; a row can have several)")
             for kind in kinds:
                 group = [p for p in problems if p.kind == kind]
-                n = sum(p.count for p in group)
-                lines.append(f"  {KINDS.get(kind, kind)}: {n} row{'s' if n != 1 else ''}")
-                for p in group[:EXAMPLES * 4]:
+                codes = f"{amount(len({str(p.value) for p in group}), 'code')} in " \
+                    if kind == "code" else ""
+                lines.append(f"  {KINDS.get(kind, kind)}: {codes}{amounts(group)}")
+                shown = [p for p in group if not p.rest][:EXAMPLES * 4]
+                for p in shown:
                     lines.append(f"    {p.text()}")
-                if len(group) > EXAMPLES * 4:
-                    lines.append(f"    … and {len(group) - EXAMPLES * 4} more")
+                rest = [p for p in group if p not in shown]  # counted, so the kind adds up
+                if rest:
+                    lines.append(f"    … and more like these: {amounts(rest)}")
                 fixes = dict.fromkeys(p.fix for p in group)
                 for fix in fixes:
                     lines.append(f"    what to do: {fix}")
         return lines
 
 
-def unknown_codes_error(codes: list[Problem]) -> BadInputError:
-    """The one message for every unknown vote code of a load: code, count, first file:line."""
+def unknown_codes_error(codes: list[Problem], fix: str) -> BadInputError:
+    """The one message for every unknown or ambiguous vote code of a load: code, count, first
+    file:line (or sheet and cell), and for an ambiguous symbol why it is refused."""
     merged: dict[object, list] = {}
     for p in codes:  # the same code in several files: add counts, keep the first place
         entry = merged.setdefault(p.value, [0, p.place()])
         entry[0] += p.count
-    parts = [f"{show(code)} ×{n} (first at {loc})" for code, (n, loc) in list(merged.items())[:20]]
+    parts = [f"{show(code)} ×{n} (first at {loc}" + (f"; refused until mapped: {why})" if (
+        why := ambiguity(code)) else ")") for code, (n, loc) in list(merged.items())[:20]]
     if len(merged) > 20:
         parts.append(f"and {len(merged) - 20} more")
     columns = dict.fromkeys(f"{p.file}, column {show(p.column)}" for p in codes)
     what = "; ".join(columns)
     n = len(merged)
-    return BadInputError(what, f"{n} unknown vote code{'s' if n > 1 else ''}: " + ", ".join(parts),
-                         "map each to yes, no, abstain or absent in a CSV file with the columns "
-                         "raw,choice and pass it with --codes FILE")
+    label = "without a mapping" if any(ambiguity(c) for c in merged) else None
+    head = (f"{n} vote code{'s' if n > 1 else ''} {label}" if label else
+            f"{n} unknown vote code{'s' if n > 1 else ''}")
+    return BadInputError(what, f"{head}: " + ", ".join(parts), fix)
 
 
 # -- checks over a staged table ---------------------------------------------------------------
@@ -211,11 +253,15 @@ def check_bodies(store, staged, problems: Problems) -> list[str]:
 
 
 def check_dates(store, staged, column: str, problems: Problems, *,
-                future_ok: bool = False) -> None:
+                future_ok: bool = False, fmt: str | None = None) -> None:
     """Dates that do not parse, lie before 1800 or (unless ``future_ok``) after today.
 
-    Distinct values are grouped first, so each different spelling is parsed once.
+    Distinct values are grouped first, so each different spelling is parsed once. ``fmt``: the
+    form the dates were read in (see :mod:`blocwatch.pipeline.ingest.dates`) — a strptime form,
+    or ``"ambiguous"``/``"mixed"`` when numeric dates could not be read safely.
     """
+    from blocwatch.pipeline.ingest.dates import why_not
+
     rows = store.rows(
         f"""WITH d AS (SELECT {column} AS v, count(*) AS n, min(rid) AS r FROM {staged.table}
                        WHERE {column} IS NOT NULL GROUP BY {column}),
@@ -224,20 +270,53 @@ def check_dates(store, staged, column: str, problems: Problems, *,
                                  WHEN day < DATE '{EARLIEST}' THEN 'early' ELSE 'future' END
             FROM p WHERE day IS NULL OR day < DATE '{EARLIEST}'
                          OR (NOT ? AND day > current_date)
-            ORDER BY r LIMIT {EXAMPLES * 4}""", [future_ok])
+            ORDER BY r""", [future_ok])
+    shown = rest = 0
     for value, n, rid, why in rows:
-        text = {"parse": "is not a date in the form YYYY-MM-DD",
-                "early": "lies before 1800", "future": "lies in the future"}[why]
-        fix = {"parse": "write dates as YYYY-MM-DD (e.g. 2021-03-09)",
-               "early": "check the year; blocwatch accepts dates from 1800 on",
-               "future": "check the year; ballots cannot be held after today"}[why]
-        add_row_problem(problems, staged, "date", rid, column, value, f"{show(value)} {text}",
-                        fix, count=n)
+        if why == "parse" and fmt in ("ambiguous", "mixed"):
+            text = ("could be read day-first or month-first, and no date in the file settles "
+                    "which" if fmt == "ambiguous" else "is one of dates written both day-first "
+                    "and month-first in this file")
+            fix = "pass --date-format with the form, e.g. %d.%m.%Y (day-first) or %m/%d/%Y"
+        else:
+            text = {"parse": why_not(value, None if fmt in ("ambiguous", "mixed") else fmt),
+                    "early": "lies before 1800", "future": "lies in the future"}[why]
+            fix = {"parse": "write dates as YYYY-MM-DD (e.g. 2021-03-09), or pass "
+                            "--date-format with their form (e.g. %d.%m.%Y)",
+                   "early": "check the year; blocwatch accepts dates from 1800 on",
+                   "future": "check the year; ballots cannot be held after today"}[why]
+            if why == "parse" and "no such day" in text:
+                fix = "check the day and month; the calendar has no such date"
+        shown += 1
+        if shown <= EXAMPLES * 4:
+            add_row_problem(problems, staged, "date", rid, column, value, f"{show(value)} {text}",
+                            fix, count=n)
+        else:
+            rest += n
+    if rest:
+        add_rest(problems, staged, "date", rest, staged_unit(staged),
+                 f"{staged_unit(staged)}s with other dates that cannot be used", fix)
+
+
+def staged_unit(staged) -> str:
+    """What one staged row is in the file: a row, or a cell of a wide sheet."""
+    return "cell" if staged.layout == "wide" and staged.kind == "votes" else "row"
 
 
 def add_row_problem(problems: Problems, staged, kind: str, rid: int, column: str | None,
-                    value: object, why: str, fix: str, *, count: int = 1) -> None:
-    """Add a problem located at staged row ``rid`` (the file's line, row or cell)."""
+                    value: object, why: str, fix: str, *, count: int = 1,
+                    unit: str | None = None) -> None:
+    """Add a problem located at staged row ``rid`` (the file's line, row or cell); ``count``
+    is in ``unit``s (default: the staged file's rows or cells)."""
     line, where, header = staged.place(rid, column)
     problems.add(Problem(kind, staged.name, why, fix, line=line, where=where,
-                         column=header, value=value, count=count))
+                         column=header, value=value, count=count,
+                         unit=unit or staged_unit(staged)))
+
+
+def add_rest(problems: Problems, staged, kind: str, n: int, unit: str, what: str,
+             fix: str) -> None:
+    """After the examples: one problem for the ``n`` not shown, so the kind's count adds up."""
+    if n > 0:
+        problems.add(Problem(kind, staged.name, f"{n:,} more {what}", fix, count=n, unit=unit,
+                             rest=True))

@@ -12,8 +12,11 @@ cell reads ``date`` (or ``held_on``), ``title``, ``item`` or ``topic`` give each
 attributes; without a date row, a ballot header that starts with an ISO date (``2021-01-12`` or
 ``2021-01-12 #2``) dates its ballot, and other dates come from ``--ballots FILE`` or from
 ballots already stored.
-Only the first sheet of a workbook is read. Merged cells and formulas are refused (their values
-are not what a clerk sees); blank cells mean absent.
+The first sheet of a workbook is read, or the one ``--sheet NAME|N`` names, or every sheet with
+``--sheet all`` (stacked: a sheet per year is common; sheets without a header are skipped, and
+the load says so). The header may sit below a few rows of notes (it is looked for in the top
+:data:`HEADER_SEARCH` rows; the load says which row it used). Merged cells and formulas are
+refused (their values are not what a clerk sees); blank cells mean absent.
 
 Spreadsheets are small next to long files, so they are read in Python and staged as a frame.
 """
@@ -21,10 +24,8 @@ Spreadsheets are small next to long files, so they are read in Python and staged
 from __future__ import annotations
 
 import csv
-import datetime as dt
 import io
 import re
-from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -32,6 +33,14 @@ import pandas as pd
 
 from blocwatch.pipeline.ingest import sniff
 from blocwatch.pipeline.ingest.readers import FIELDS, KINDS, Staged, resolve_columns
+from blocwatch.pipeline.ingest.sheets import (
+    HEADER_SEARCH,
+    Grid,
+    find_header,
+    header_place,
+    letter,
+    read_xlsx,
+)
 from blocwatch.pipeline.ingest.validate import Problem, Problems
 from blocwatch.pipeline.safety import show
 from blocwatch.pipeline.store.database import Store
@@ -42,95 +51,6 @@ META_ROWS = {"date": "held_on", "held_on": "held_on", "title": "title", "item": 
              "topic": "topic",
              "scale": "scale", "scale_min": "scale_min", "scale_max": "scale_max",
              "options": "options"}
-
-
-@dataclass
-class Grid:
-    rows: list[list[str | None]]
-    lines: list[int]  # line (CSV) or sheet row number (xlsx) of each row
-    sheet: str | None  # None for CSV
-
-    def where(self, row: int, col: int, header: str | None) -> tuple[int | None, str | None,
-                                                                     str | None]:
-        if self.sheet is None:
-            return self.lines[row], None, header
-        return None, f"sheet {show(self.sheet)}, cell {_letter(col)}{self.lines[row]}", header
-
-    def row_where(self, row: int) -> tuple[int | None, str | None, None]:
-        if self.sheet is None:
-            return self.lines[row], None, None
-        return None, f"sheet {show(self.sheet)}, row {self.lines[row]}", None
-
-
-def _letter(col: int) -> str:
-    out = ""
-    col += 1
-    while col:
-        col, rem = divmod(col - 1, 26)
-        out = chr(65 + rem) + out
-    return out
-
-
-def _cell_text(value: object) -> str | None:
-    if value is None:
-        return None
-    if isinstance(value, dt.datetime):
-        return value.date().isoformat() if value.time() == dt.time() else value.isoformat()
-    if isinstance(value, dt.date):
-        return value.isoformat()
-    if isinstance(value, bool):
-        return "true" if value else "false"
-    if isinstance(value, float) and value.is_integer():
-        return str(int(value))
-    text = str(value).strip()
-    return text or None
-
-
-def read_xlsx(path: Path, problems: Problems) -> Grid | None:
-    import zipfile
-
-    from openpyxl import load_workbook
-
-    name = str(path)
-    try:
-        book = load_workbook(path, data_only=False)
-    except (zipfile.BadZipFile, KeyError, OSError, ValueError, TypeError) as exc:
-        problems.add(Problem("file", name, f"cannot be read as an .xlsx workbook ({exc})",
-                             "open it in a spreadsheet program and save it as .xlsx again"))
-        return None
-    sheet = book.worksheets[0]
-    ok = True
-    for rng in list(sheet.merged_cells.ranges)[:20]:
-        problems.add(Problem("sheet", name, f"cells {rng.coord} are merged", "unmerge them and "
-                             "write the value in every cell", where=f"sheet {show(sheet.title)}, "
-                             f"cell {rng.coord.split(':')[0]}", value=rng.coord))
-        ok = False
-    rows, lines = [], []
-    formulas = 0
-    for r, row in enumerate(sheet.iter_rows(), start=1):
-        values = []
-        for c in row:
-            if c.data_type == "f":
-                formulas += 1
-                if formulas <= 20:
-                    problems.add(Problem("sheet", name, f"holds the formula {show(c.value, 40)}",
-                                         "replace formulas by their values (copy, then paste "
-                                         "values only)", where=f"sheet {show(sheet.title)}, cell "
-                                         f"{c.coordinate}", value=c.value))
-                ok = False
-            values.append(_cell_text(c.value))
-        if any(v is not None for v in values):
-            rows.append(values)
-            lines.append(r)
-    if not ok:
-        return None
-    if not rows:
-        problems.add(Problem("file", name, f"sheet {show(sheet.title)} is empty",
-                             "put the data on the first sheet, header in row 1"))
-        return None
-    width = max(len(r) for r in rows)
-    rows = [r + [None] * (width - len(r)) for r in rows]
-    return Grid(rows, lines, sheet.title)
 
 
 def read_csv_grid(path: Path, scan_info: sniff.Scan, problems: Problems) -> Grid | None:
@@ -170,36 +90,71 @@ def read_csv_grid(path: Path, scan_info: sniff.Scan, problems: Problems) -> Grid
 
 def stage_grid(store: Store, path: Path, *, kind: str, table: str, body: str | None, fmt: str,
                layout: str, overrides: dict[str, str], problems: Problems,
-               scan_info: sniff.Scan) -> Staged | None:
-    """Stage an .xlsx sheet (long or wide) or a wide CSV file."""
-    grid = read_xlsx(path, problems) if fmt == "xlsx" else read_csv_grid(path, scan_info,
-                                                                          problems)
-    if grid is None:
-        return None
-    if layout == "wide" and kind == "votes":
-        frame, headers = _wide_frame(grid, str(path), body, overrides, problems)
+               scan_info: sniff.Scan, sheet: str | None = None,
+               notes: list[str] | None = None) -> Staged | None:
+    """Stage .xlsx sheets (long or wide; several sheets are stacked) or a wide CSV file."""
+    if fmt == "xlsx":
+        read = read_xlsx(path, problems, sheet)
+        if read is None:
+            return None
+        grids, titles = read
+        every = sheet is not None and sheet.strip().casefold() == "all"
+        what = "wide" if layout == "wide" and kind == "votes" else kind
+        found = []
+        for g in grids:
+            trial = Problems() if every else problems
+            got = find_header(g, what, overrides, str(path), trial, notes,
+                              others=[] if every or len(titles) == 1 else titles)
+            if got is None and every and notes is not None:
+                notes.append(f"note: {path}: sheet {show(g.sheet)} skipped: "
+                             f"{trial.items[0].why.removeprefix('has ')}")
+            found.append(got)
+        if every:
+            found = [g for g in found if g is not None] or [None]
+            if found == [None]:
+                problems.add(Problem("header", str(path), "has no sheet with a header row in "
+                                     f"its first {HEADER_SEARCH} rows", "put the header row "
+                                     "(e.g. member_id, ballot_id, vote) at the top of a sheet"))
+        if any(g is None for g in found):
+            return None
+        grids = found
     else:
-        frame, headers = _long_frame(grid, str(path), kind, body, overrides, problems)
-    if frame is None:
-        return None
+        grid = read_csv_grid(path, scan_info, problems)
+        if grid is None:
+            return None
+        grids = [grid]
+    frames, parts = [], []
+    for g, grid in enumerate(grids):
+        if layout == "wide" and kind == "votes":
+            frame, headers = _wide_frame(grid, str(path), body, overrides, problems)
+        else:
+            frame, headers = _long_frame(grid, str(path), kind, body, overrides, problems)
+        if frame is None:
+            return None
+        frame["_g"] = g
+        frames.append(frame)
+        parts.append(headers)
+    frame = pd.concat(frames, ignore_index=True) if len(frames) > 1 else frames[0]
+    headers = parts[0]
     store.stage_frame(f"{table}_frame", frame)
     text = ", ".join(f"CAST({c} AS VARCHAR) AS {c}" for c in STAGE_COLUMNS[kind if layout != "wide"
                                                                         else "votes"])
     rows = store.stage_rows(table, f"SELECT {text}, _row, _j FROM {table}_frame ORDER BY rowid")
     staged = Staged(path, str(path), kind, fmt, layout, table, headers, rows, scan_info.sha256)
-    positions = frame[["_row", "_j"]].to_numpy()
-    stage_cols = {FIELDS[opt][0]: j for opt, j in headers.pop("_cols").items()}
-    date_row = headers.pop("_date_row", None)
+    positions = frame[["_row", "_j", "_g"]].to_numpy()
+    stage_cols = [{FIELDS[opt][0]: j for opt, j in h.pop("_cols").items()} for h in parts]
+    date_rows = [h.pop("_date_row", None) for h in parts]
 
     def placer(rid: int, column: str | None):
-        row, j = int(positions[rid][0]), int(positions[rid][1])
+        row, j, g = (int(v) for v in positions[rid])
+        grid, date_row = grids[g], date_rows[g]
         if column == "raw" and layout == "wide":
             return grid.where(row, j, grid.rows[0][j])
         if column == "ballot_id" and layout == "wide":
             return grid.where(0, j, grid.rows[0][j])
         if column == "held_on" and date_row is not None:
             return grid.where(date_row, j, grid.rows[0][j])
-        col = stage_cols.get(column)
+        col = stage_cols[g].get(column)
         if col is None:
             return grid.row_where(row)
         return grid.where(row, col, None)
@@ -207,7 +162,7 @@ def stage_grid(store: Store, path: Path, *, kind: str, table: str, body: str | N
     staged.placer = placer
     if rows == 0:
         problems.add(Problem("file", str(path), "has a header but no data rows",
-                             "add one row per member", line=2 if grid.sheet is None else None))
+                             "add one row per member", line=2 if fmt != "xlsx" else None))
     return staged
 
 
@@ -215,7 +170,7 @@ def _long_frame(grid: Grid, name: str, kind: str, body: str | None, overrides: d
                 problems: Problems):
     header = [h or "" for h in grid.rows[0]]
     cols = resolve_columns(header, kind, overrides, file=name, problems=problems,
-                           strict=kind == "votes")
+                           strict=kind == "votes", where=header_place(grid))
     if cols is None:
         return None, {}
     required, optional, _ = KINDS[kind]
@@ -232,7 +187,8 @@ def _long_frame(grid: Grid, name: str, kind: str, body: str | None, overrides: d
 
 def _wide_frame(grid: Grid, name: str, body: str | None, overrides: dict, problems: Problems):
     header = [h or "" for h in grid.rows[0]]
-    cols = resolve_columns(header, "wide", overrides, file=name, problems=problems)
+    cols = resolve_columns(header, "wide", overrides, file=name, problems=problems,
+                           where=header_place(grid))
     if cols is None:
         return None, {}
     used = set(cols.values())
@@ -243,7 +199,7 @@ def _wide_frame(grid: Grid, name: str, body: str | None, overrides: dict, proble
             continue
         if not h:
             if any(r[j] is not None for r in grid.rows[1:]):
-                problems.add(Problem("header", name, f"column {_letter(j)} holds votes but has no "
+                problems.add(Problem("header", name, f"column {letter(j)} holds votes but has no "
                                      "header", "write the ballot id in its header cell",
                                      line=grid.where(0, j, None)[0],
                                      where=grid.where(0, j, None)[1], column=None, value=""))
@@ -252,7 +208,7 @@ def _wide_frame(grid: Grid, name: str, body: str | None, overrides: dict, proble
         if h in seen:
             line, where, _ = grid.where(0, j, None)
             problems.add(Problem("header", name, f"ballot {show(h)} has two columns (the first "
-                                 f"is column {_letter(seen[h])})", "merge the two columns or "
+                                 f"is column {letter(seen[h])})", "merge the two columns or "
                                  "give each ballot its own id", line=line, where=where,
                                  column=h, value=h))
             ok = False

@@ -33,6 +33,7 @@ from blocwatch.pipeline.build.builder import BuildReport, build
 from blocwatch.pipeline.build.planner import Stale, stale_periods
 from blocwatch.pipeline.config import Config, active_config, body_ingest_options, body_sources
 from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.ingest.sniff import load_key
 from blocwatch.pipeline.ops.lock import store_lock
 from blocwatch.pipeline.ops.scan_load import load_scan
 from blocwatch.pipeline.options import BuildOptions
@@ -108,7 +109,7 @@ def scan_sources(store: Store | None, cfg: Config, body: str | None = None) -> l
             if not path.is_file():
                 raise UsageError(f"config: bodies.{name}.{kind}", f"names {path}, which does "
                                  "not exist", "fix the path (relative to blocwatch.toml)")
-            sha = file_sha256(path)
+            sha = load_key(path, file_sha256(path), aux.get("sheet") if kind == "votes" else None)
             if sha in loaded:
                 state = "loaded"
             elif _seen(path, cfg, seen_paths):

@@ -36,6 +36,9 @@ _FLAG_KEYS = [
     (r"--ballots(?: FILE)?\b", lambda m: "ballots = \"FILE\""),
     (r"--layout (long|wide|long\|wide)\b", lambda m: f"layout = \"{m.group(1)}\""),
     (r"--scale(?: SPEC)?\b", lambda m: "scale = \"SPEC\""),
+    (r"--date-format(?: with (?:the|their) form)?", lambda m: "date_format = \"FORM\""),
+    (r"--sheet(?: with the sheet that holds the votes)?", lambda m: "sheet = \"NAME\""),
+    (r"--sheet all\b", lambda m: "sheet = \"all\""),
 ]
 _QUOTED = re.compile(r"'blocwatch [^']*'")
 
@@ -78,6 +81,7 @@ def _load(store: Store, cfg: Config, group: Group, *, check_only: bool):
 
     return ingest_files(store, [s.path for s in group.sources if s.kind == "votes"],
                         body=group.body, replace=group.replace, check_only=check_only,
+                        codes_via=f"[bodies.\"{group.body}\"] of {cfg.path or 'blocwatch.toml'}",
                         **body_ingest_options(group.body, cfg))
 
 

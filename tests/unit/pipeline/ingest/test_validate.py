@@ -62,13 +62,27 @@ def test_report_groups_and_counts():
                              column="member_id"))
     problems.add(Problem("long", "v.csv", "too long", "shorten it", line=8, count=4))
     problems.add(Problem("file", "w.csv", "is empty", "export again"))
-    lines = problems.report()
-    assert lines[0] == "v.csv: 2 kinds of problem, 7 rows affected"
+    lines = problems.report({"v.csv": "9 rows"})
+    # Kinds are never added together (issue 13: a row with two problems is not two rows).
+    assert lines[0] == ("v.csv: 9 rows read; 2 kinds of problem (each counted on its own; a "
+                        "row can have several)")
     assert "  missing values: 3 rows" in lines
     assert "  over-long values: 4 rows" in lines
     assert "    v.csv:8: too long (4 rows like this)" in lines
-    assert "w.csv: 1 kind of problem, 1 row affected" in lines
+    assert "w.csv: 1 kind of problem (each counted on its own; a row can have several)" in lines
     assert Problems().report() == ["no problems found"]
+
+
+def test_report_rest_adds_up_and_units_stay_apart():
+    problems = Problems()
+    for i in range(23):  # 20 listed one by one, 3 counted in the "and more" line
+        problems.add(Problem("date", "v.csv", f"'x{i}' is not a date", "fix", line=i + 2,
+                             count=2))
+    problems.add(Problem("date", "v.csv", "4 more rows", "fix", count=4, rest=True))
+    problems.add(Problem("date", "v.csv", "ballot 'b' has no date", "fix", unit="ballot"))
+    lines = problems.report()
+    assert "  dates that cannot be used: 50 rows, 1 ballot" in lines  # 23 x 2 + 4 rows
+    assert "    … and more like these: 10 rows, 1 ballot" in lines  # 20 x 2 + 3 x 2 + 4 = 50
 
 
 def test_location_forms():
