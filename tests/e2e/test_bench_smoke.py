@@ -26,8 +26,8 @@ def test_bench_tiny_reports_every_stage_and_target(tmp_path):
     assert set(res["ingest"]) == {"parquet", "csv"}
     # The printed target table names every target.
     names = [t["target"] for t in res["targets"]]
-    assert len(names) == 7
-    for word in ("bare product", "pandas", "ingest + build", "peak memory", "rebuild",
+    assert len(names) == 8
+    for word in ("one period", "bare product", "pandas", "ingest + build", "peak memory", "rebuild",
                  "Parquet", "CSV"):
         assert any(word in n for n in names), word
         assert word in proc.stdout
