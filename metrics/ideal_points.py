@@ -34,6 +34,8 @@ class IdealPoints:
     alpha, beta : (b,) ballot intercepts and slopes on the standardised scale; NaN for a ballot
         without both a yes and a no (it carries no information on positions).
     iterations : EM steps evaluated; converged : whether the tolerance was reached.
+    centre, scale : the fitted mode's raw positions are ``centre + scale · x`` (scale < 0 when
+        the orientation rule flipped the line); a warm start resumes from that raw mode.
     """
 
     x: np.ndarray
@@ -41,6 +43,18 @@ class IdealPoints:
     beta: np.ndarray
     iterations: int
     converged: bool
+    centre: float = 0.0
+    scale: float = 1.0
+
+    def raw(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """(x, α, β) on the fitted mode's own scale (before standardising and orienting)."""
+        beta = self.beta / self.scale
+        return self.centre + self.scale * self.x, self.alpha - beta * self.centre, beta
+
+
+def _mills(t: np.ndarray) -> np.ndarray:
+    """φ(t)/Φ(t), stable for large negative t via log Φ."""
+    return np.exp(-0.5 * t * t - _LOG_SQRT_2PI - special.log_ndtr(t))
 
 
 def _spectral_start(sign: np.ndarray, cast: np.ndarray, rng) -> np.ndarray:
@@ -90,13 +104,30 @@ def _em_map(sign: np.ndarray, cast: np.ndarray, precision: float):
     return step
 
 
+def _start(fit: IdealPoints | None, sign: np.ndarray, cast: np.ndarray, active: np.ndarray,
+           informative: np.ndarray, seed) -> np.ndarray:
+    """θ₀ = (x, α, β) over the fitted members and ballots: the spectral start, or ``fit``."""
+    n_fit, b_fit = sign.shape
+    if fit is None:
+        x0 = _spectral_start(sign, cast, np.random.default_rng(seed))
+        return np.concatenate([x0, np.zeros(2 * b_fit)])
+    if fit.x.shape != active.shape or fit.alpha.shape != informative.shape:
+        raise ValueError(f"start: expected a fit of {active.size} members and "
+                         f"{informative.size} ballots, received {fit.x.size} and "
+                         f"{fit.alpha.size}; pass the fit of the same vote matrix's layout")
+    x, alpha, beta = fit.raw()
+    parts = (x[active], alpha[informative], beta[informative])
+    return np.nan_to_num(np.concatenate(parts), nan=0.0, posinf=0.0, neginf=0.0)
+
+
 def _standardised(x: np.ndarray) -> np.ndarray:
     sd = x.std()
     return (x - x.mean()) / (sd if sd > 0 else 1.0)
 
 
 def ideal_points_em(votes, *, n_iter: int = 3000, tol: float = 1e-4,
-                    ballot_prior_var: float = 25.0, seed=0) -> IdealPoints:
+                    ballot_prior_var: float = 25.0, seed=0,
+                    start: IdealPoints | None = None) -> IdealPoints:
     """One-dimensional probit ideal points fitted by EM; missing votes and abstentions ignored.
 
     Model: ``P(yes_ij) = Φ(α_j + β_j x_i)``, priors ``x_i ~ N(0, 1)``,
@@ -120,7 +151,11 @@ def ideal_points_em(votes, *, n_iter: int = 3000, tol: float = 1e-4,
 
     Start: the leading principal axis of the centred ±1 vote matrix (deterministic; ``seed``
     is used only when that axis is degenerate). Ballots without both a yes and a no are left
-    out.
+    out. ``start`` (a fit of the same members and ballots, e.g. the period's own fit for a
+    bootstrap replicate whose columns are the period's ballots drawn again) warm-starts EM
+    from that fit's positions and ballot parameters instead (members or ballots it has no
+    finite value for start at 0); the stopping rule is the same, so a warm start changes
+    where EM begins, not when it may stop.
 
     After the fit x is standardised (mean 0, SD 1 over fitted members; α, β transformed so
     that α + βx is unchanged) and oriented: **positive x = members who vote yes more often**
@@ -171,8 +206,7 @@ def ideal_points_em(votes, *, n_iter: int = 3000, tol: float = 1e-4,
     cast = np.abs(sign)
     n_fit, b_fit = sign.shape
     step = _em_map(sign, cast, 1.0 / ballot_prior_var)
-    x0 = _spectral_start(sign, cast, np.random.default_rng(seed))
-    theta, _ = step(np.concatenate([x0, np.zeros(2 * b_fit)]))
+    theta, _ = step(_start(start, sign, cast, active, informative, seed))
     evals, converged = 1, False
     z_old = _standardised(theta[:n_fit])
     while evals < n_iter:
@@ -201,9 +235,9 @@ def ideal_points_em(votes, *, n_iter: int = 3000, tol: float = 1e-4,
     yes_share = y.sum(axis=1) / cast.sum(axis=1)
     direction = float(np.dot(z, yes_share - yes_share.mean()))
     if direction < 0 or (direction == 0 and float(np.sum(z ** 3)) < 0):
-        z, beta = -z, -beta
+        z, beta, scale = -z, -beta, -scale
     x_out = np.full(n, np.nan)
     x_out[active] = z
     a_out, b_out = np.full(b, np.nan), np.full(b, np.nan)
     a_out[informative], b_out[informative] = alpha, beta
-    return IdealPoints(x_out, a_out, b_out, evals, converged)
+    return IdealPoints(x_out, a_out, b_out, evals, converged, float(centre), float(scale))

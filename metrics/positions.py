@@ -20,7 +20,7 @@ from blocwatch.metrics.registry import MetricValue, PeriodInput, register
 from blocwatch.metrics.validation import normalise_labels
 
 __all__ = ["main_pair", "median_distance", "overlap_count", "bimodality_coefficient",
-           "fit_ideal_points", "MIN_GROUP_SIZE"]
+           "fit_ideal_points", "replicate_start", "MIN_GROUP_SIZE"]
 
 MIN_GROUP_SIZE = 3  # a median of fewer positioned members is not worth a number
 
@@ -153,31 +153,49 @@ def bimodality_coefficient(x) -> float:
     return (g1 * g1 + 1) / (g2 + 3 * (n - 1) ** 2 / ((n - 2) * (n - 3)))
 
 
-def fit_ideal_points(votes) -> IdealPoints:
+def fit_ideal_points(votes, *, start: IdealPoints | None = None) -> IdealPoints:
     """:func:`ideal_points_em` with default settings, its arrays read-only so it can be shared.
+
+    ``start``: a warm start (see :func:`replicate_start`); the stopping rule is unchanged.
 
     >>> v = np.array([[1, 1, 2, 1], [1, 1, 2, 2], [1, 2, 1, 2], [2, 2, 1, 2], [2, 2, 1, 1]])
     >>> fit_ideal_points(v).x.flags.writeable
     False
     """
-    fit = ideal_points_em(np.ascontiguousarray(votes, dtype=np.int8))
+    fit = ideal_points_em(np.ascontiguousarray(votes, dtype=np.int8), start=start)
     for arr in (fit.x, fit.alpha, fit.beta):
         arr.flags.writeable = False
     return fit
 
 
-def with_ideal_points(inp: PeriodInput) -> PeriodInput:
+def with_ideal_points(inp: PeriodInput, *, start: IdealPoints | None = None) -> PeriodInput:
     """``inp`` carrying one fit of its votes, for the period family, the member table and the
     label-permutation null (labels change, votes do not) to share.
 
-    Unchanged where there are no votes or no fit is possible; the family then says why.
+    ``start`` warm-starts the fit (a bootstrap replicate from its period's fit, laid out by
+    :func:`replicate_start`). Unchanged where there are no votes or no fit is possible; the
+    family then says why.
     """
     if inp.votes is None or inp.n == 0 or inp.ideal_points is not None:
         return inp
     try:
-        return dataclasses.replace(inp, ideal_points=fit_ideal_points(inp.votes))
+        return dataclasses.replace(inp, ideal_points=fit_ideal_points(inp.votes, start=start))
     except ValueError:
         return inp
+
+
+def replicate_start(fit: IdealPoints, weights) -> IdealPoints:
+    """The period's fit laid out for a bootstrap replicate whose vote matrix repeats ballot j
+    ``weights[j]`` times (``np.repeat(votes, weights, axis=1)``): the warm start of the
+    replicate's own EM fit (see :func:`~blocwatch.metrics.ideal_points.ideal_points_em`).
+
+    >>> fit = IdealPoints(np.zeros(2), np.array([1.0, 2.0]), np.array([3.0, 4.0]), 1, True)
+    >>> replicate_start(fit, [0, 2]).alpha.tolist()
+    [2.0, 2.0]
+    """
+    reps = np.asarray(weights, dtype=np.int64)
+    return IdealPoints(fit.x, np.repeat(fit.alpha, reps), np.repeat(fit.beta, reps),
+                       fit.iterations, fit.converged, fit.centre, fit.scale)
 
 
 def period_ideal_points(inp: PeriodInput) -> IdealPoints:

@@ -17,7 +17,7 @@ from blocwatch.metrics import PeriodInput, compute_all, registry
 from blocwatch.metrics.cohesion import group_agreement_matrix
 from blocwatch.metrics.member_registry import compute_members
 from blocwatch.metrics.nulls import label_permutation_null
-from blocwatch.metrics.positions import with_ideal_points
+from blocwatch.metrics.positions import replicate_start, with_ideal_points
 from blocwatch.metrics.reliability import alpha_by_group
 from blocwatch.metrics.resampling import ballot_weights, percentile_interval, stable_seed
 from blocwatch.pipeline.build.agreement import agreement_counts, agreement_matrix
@@ -85,9 +85,13 @@ def period_input(votes: np.ndarray, labels: np.ndarray, opts: BuildOptions, seed
 
 
 def _bootstrap(vm: VoteMatrix, labels: np.ndarray, opts: BuildOptions, seed: int,
-               names: list[str]) -> tuple[dict[str, tuple[float, float]], np.ndarray | None]:
+               names: list[str], fit=None
+               ) -> tuple[dict[str, tuple[float, float]], np.ndarray | None]:
     """Percentile intervals of the metrics, and of the group × group mean agreement
-    ((k, k, 2) low/high, from the same replicates; None without a bootstrap)."""
+    ((k, k, 2) low/high, from the same replicates; None without a bootstrap).
+
+    ``fit`` (the period's ideal points) warm-starts each replicate's EM fit where the
+    replicate's vote matrix is the period's yes/no ballots repeated (not scored, not kappa)."""
     if opts.bootstrap <= 0 or vm.votes.shape[1] == 0:
         return {}, None
     blocks = vm.items if any(vm.items) else None
@@ -96,9 +100,12 @@ def _bootstrap(vm: VoteMatrix, labels: np.ndarray, opts: BuildOptions, seed: int
     k = len(vm.group_names)
     pair_samples = np.full((opts.bootstrap, k, k), np.nan)
     cheap = [f.name for f in registry.FAMILIES.values() if not f.expensive]
+    warm = fit is not None and vm.scales is None and opts.agreement.measure == "match"
     for r in range(opts.bootstrap):
         families = None if r < opts.expensive_replicates else cheap
         inp = period_input(vm.votes, labels, opts, seed, weights=w[r], scales=vm.scales)
+        if warm and families is None:
+            inp = with_ideal_points(inp, start=replicate_start(fit, w[r]))
         values = compute_all(inp, families=families)
         samples[r] = [values[m].value if m in values and values[m].ok else np.nan
                       for m in names]
@@ -142,7 +149,8 @@ def compute_period(vm: VoteMatrix, opts: BuildOptions, version: str) -> PeriodRe
     values = compute_all(inp)
     members = _member_rows(vm, inp)
     names = list(values)
-    intervals, pair_intervals = _bootstrap(vm, labels, opts, seed, names)
+    intervals, pair_intervals = _bootstrap(vm, labels, opts, seed, names,
+                                           fit=inp.ideal_points)
     nulls = _nulls(inp, opts, seed)
     rows = []
     for m in names:

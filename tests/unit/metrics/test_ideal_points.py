@@ -87,3 +87,41 @@ def test_degenerate_inputs_raise_with_fix():
         ideal_points_em(np.array([[7, 1], [1, 2]]))
     with pytest.raises(ValueError, match="n_iter"):
         ideal_points_em(np.array([[1, 2], [2, 1]]), n_iter=0)
+
+
+def test_raw_mode_gives_the_same_linear_predictor():
+    # α + βx is what the data see; standardising and orienting must leave it unchanged.
+    votes, _, _ = spatial_votes(seed=3)
+    fit = ideal_points_em(votes)
+    x, alpha, beta = fit.raw()
+    std = fit.alpha[None, :] + np.outer(fit.x, fit.beta)
+    raw = alpha[None, :] + np.outer(x, beta)
+    assert np.allclose(std, raw, equal_nan=True)
+
+
+@pytest.mark.parametrize("seed", [0, 1])
+def test_warm_start_on_a_replicate_reaches_the_same_mode(seed):
+    # A bootstrap replicate (ballots drawn again) fitted from the period's own fit: the
+    # reference is the same replicate fitted cold to a much tighter tolerance (1e-8). The
+    # warm fit must lie as close to that mode as the default-tolerance cold fit does
+    # (0.02 SD, the docstring's bound). (How many EM steps it saves is a benchmark matter.)
+    from blocwatch.metrics.positions import replicate_start
+    from blocwatch.metrics.resampling import ballot_weights
+
+    votes, _, _ = spatial_votes(seed=seed)
+    fit = ideal_points_em(votes)
+    w = ballot_weights(votes.shape[1], 1, seed=seed)[0]
+    rep = np.repeat(votes, w, axis=1)
+    tight = ideal_points_em(rep, tol=1e-8, n_iter=200000)
+    cold = ideal_points_em(rep)
+    warm = ideal_points_em(rep, start=replicate_start(fit, w))
+    assert warm.converged
+    assert np.nanmax(np.abs(warm.x - tight.x)) <= 0.02
+    assert np.nanmax(np.abs(cold.x - tight.x)) <= 0.02
+
+
+def test_start_of_another_layout_is_refused():
+    votes, _, _ = spatial_votes(seed=0)
+    fit = ideal_points_em(votes)
+    with pytest.raises(ValueError, match="start: expected a fit of"):
+        ideal_points_em(votes[:, :-1], start=fit)
