@@ -269,10 +269,13 @@ def _size_weighted(values: np.ndarray, labels: np.ndarray) -> MetricValue:
 
 @register("cohesion", ("rice_mean", "agreement_index_mean", "group_line_share", "mean_loyalty"),
           bounds={"rice_mean": (0.0, 1.0), "agreement_index_mean": (0.0, 1.0),
-                  "group_line_share": (0.0, 1.0), "mean_loyalty": (0.0, 1.0)})
+                  "group_line_share": (0.0, 1.0), "mean_loyalty": (0.0, 1.0)},
+          direction={"rice_mean": "higher", "agreement_index_mean": "higher",
+                     "group_line_share": "higher", "mean_loyalty": "higher"})
 def _cohesion_family(inp: PeriodInput) -> dict[str, MetricValue]:
     """Rice and AI: size-weighted mean over groups of ≥ 2 members; group-line share over the
-    period's ballots; loyalty: plain mean over members who had a group-line ballot. Every
+    period's ballots; loyalty: plain mean over members who had a group-line ballot and are not
+    alone in their group (a lone member's line is its own vote). Every
     metric needs at least two groups (with one, "group cohesion" is the body's own)."""
     names = ("rice_mean", "agreement_index_mean", "group_line_share", "mean_loyalty")
     codes, k = normalise_labels(inp.labels)
@@ -286,6 +289,7 @@ def _cohesion_family(inp: PeriodInput) -> dict[str, MetricValue]:
         return {m: MetricValue.missing("needs at least two groups; this period has one")
                 for m in names}
     loyal = loyalty(votes, codes)
+    loyal[np.bincount(codes, minlength=k)[codes] < 2] = np.nan  # alone: trivially loyal
     return {
         "rice_mean": _size_weighted(rice_index(votes, codes), codes),
         "agreement_index_mean": _size_weighted(agreement_index(votes, codes), codes),

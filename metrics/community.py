@@ -190,7 +190,8 @@ _NAMES = ("best_modularity", "communities", "community_group_ari")
 @register("louvain", _NAMES, bounds={"best_modularity": (-0.5, 1.0),
                                      "communities": (1.0, float("inf")),
                                      "community_group_ari": (-0.5, 1.0)},
-          expensive=True)
+          expensive=True, direction={"best_modularity": "higher",
+                                     "community_group_ari": "higher"})
 def _family(inp: PeriodInput) -> dict[str, MetricValue]:
     codes, k = normalise_labels(inp.labels)
     w = check_adjacency(inp.weights, n=codes.shape[0])

@@ -149,10 +149,25 @@ def ei_index(adjacency, labels, *, weighted: bool = False) -> float:
 _NAMES = ("cross_group_share", "cross_group_ratio", "ei_index")
 
 
+def _agreement_crossing(inp: PeriodInput) -> float:
+    """Share of all agreement weight (every pair with a value) that crosses groups: orders
+    label permutations tied on the edge-count share, which has an atom at 0 when the rule
+    chooses few edges."""
+    a = np.nan_to_num(np.asarray(inp.agreement, dtype=np.float64), nan=0.0)
+    np.fill_diagonal(a, 0.0)
+    try:
+        return cross_group_share(a, inp.labels, weighted=True)
+    except ValueError:
+        return float("nan")
+
+
 @register("crossgroup", _NAMES,
           bounds={"cross_group_share": (0.0, 1.0), "cross_group_ratio": (0.0, float("inf")),
                   "ei_index": (-1.0, 1.0)},
-          permutation_null=("cross_group_share",))
+          permutation_null=("cross_group_share",),
+          null_tiebreak={"cross_group_share": _agreement_crossing}, interval="basic",
+          direction={"cross_group_share": "lower", "cross_group_ratio": "lower",
+                     "ei_index": "lower"})
 def _family(inp: PeriodInput) -> dict[str, MetricValue]:
     codes, k = normalise_labels(inp.labels)
     edges = np.asarray(inp.edges)

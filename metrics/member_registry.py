@@ -24,6 +24,13 @@ from blocwatch.metrics.bridges import (
     participation_coefficient,
     super_cooperators,
 )
+from blocwatch.metrics.bridging import (
+    BRIDGE_ALPHA,
+    bridge_ranks,
+    bridging_null,
+    bridging_null_p,
+    bridging_ratio,
+)
 from blocwatch.metrics.cohesion import loyalty
 from blocwatch.metrics.mds import agreement_distances, classical_mds
 from blocwatch.metrics.positions import period_ideal_points
@@ -145,8 +152,11 @@ def _delta_q(inp: PeriodInput) -> dict[str, np.ndarray]:
 
 @register_member("loyalty", ("loyalty",))
 def _loyalty(inp: PeriodInput) -> dict[str, np.ndarray]:
-    """Share of group-line ballots voted with the own group's line."""
-    return {"loyalty": loyalty(_need_votes(inp), inp.labels)}
+    """Share of group-line ballots voted with the own group's line; none for a member alone
+    in its group (its "group line" is its own vote, so it would always be 1)."""
+    values = loyalty(_need_votes(inp), inp.labels)
+    codes = np.unique(np.asarray(inp.labels), return_inverse=True)[1]
+    return {"loyalty": np.where(np.bincount(codes)[codes] > 1, values, np.nan)}
 
 
 @register_member("ideal", ("ideal_point",))
@@ -161,3 +171,15 @@ def _mds(inp: PeriodInput) -> dict[str, np.ndarray]:
     """First two classical-MDS coordinates of 1 − agreement (sign rule of ``classical_mds``)."""
     coords = classical_mds(agreement_distances(inp.agreement), 2)
     return {"mds_1": coords[:, 0], "mds_2": coords[:, 1]}
+
+
+@register_member("bridging", ("bridging", "bridge_rank", "bridging_null_p"))
+def _bridging(inp: PeriodInput) -> dict[str, np.ndarray]:
+    """Agreement with other groups over agreement within the own group; its random-groups p;
+    the rank of members with p ≤ BRIDGE_ALPHA (ties share a rank; nobody else is ranked)."""
+    score = bridging_ratio(inp.agreement, inp.labels)
+    p = bridging_null_p(score, bridging_null(inp.agreement, inp.labels, seed=inp.seed))
+    ranked = np.where(p <= BRIDGE_ALPHA, score, np.nan)
+    return {"bridging": score, "bridge_rank": bridge_ranks(ranked, -np.inf),
+            "bridging_null_p": p}
+

@@ -133,7 +133,8 @@ def modularity_graph(G: nx.Graph, communities, *, weight: str | None = "weight",
 
 
 @register("modularity", ("group_modularity",), bounds={"group_modularity": (-0.5, 1.0)},
-          permutation_null=("group_modularity",))
+          permutation_null=("group_modularity",),
+          direction={"group_modularity": "higher"}, interval="bc")
 def _family(inp: PeriodInput) -> dict[str, MetricValue]:
     codes, k = normalise_labels(inp.labels)
     w = check_adjacency(inp.weights, n=codes.shape[0])

@@ -35,9 +35,21 @@ def permuted_labels(labels, n_perm: int, *, seed) -> np.ndarray:
     return rng.permuted(np.tile(labels, (int(n_perm), 1)), axis=1)
 
 
-def _summary(observed: float, null: np.ndarray) -> dict:
-    """Null mean/sd, z and the Phipson–Smyth p from the finite null values."""
-    null = null[np.isfinite(null)]
+def _summary(observed: float, null: np.ndarray, direction: str = "higher",
+             tie: tuple[float, np.ndarray] | None = None) -> dict:
+    """Null mean/sd, signed z and the one-sided Phipson–Smyth p from the finite null values.
+
+    ``direction`` is the side that means more division: "higher" counts permutations at
+    least as large as the observed value, "lower" those at least as small, and z is signed so
+    that a positive z always means "more split than chance". ``tie`` = (observed, null) of a
+    second statistic read the same way: a permutation tied on the first counts as at least as
+    extreme only if it is at least as extreme on the second (a lexicographic statistic).
+    """
+    if direction not in ("higher", "lower"):
+        raise ValueError(f"direction: expected 'higher' or 'lower', received {direction!r}; "
+                         "declare it in the metric's registry entry")
+    finite = np.isfinite(null)
+    null = null[finite]
     n_valid = int(null.size)
     out = {"observed": float(observed), "mean": np.nan, "sd": np.nan, "z": np.nan,
            "p": np.nan, "n_perm": n_valid}
@@ -45,21 +57,35 @@ def _summary(observed: float, null: np.ndarray) -> dict:
         return out
     mean = float(null.mean())
     sd = float(null.std(ddof=1)) if n_valid > 1 else 0.0
-    # Ties within rounding count as "at least as large": a permutation that reproduces the
+    # Ties within rounding count as "at least as extreme": a permutation that reproduces the
     # observed partition must not be lost to floating-point noise.
     tol = 1e-12 * max(1.0, abs(observed))
-    exceed = int((null >= observed - tol).sum())
-    out.update(mean=mean, sd=sd, z=(observed - mean) / sd if sd > 0 else np.nan,
+    sign = 1.0 if direction == "higher" else -1.0
+    beyond = sign * (null - observed)
+    extreme = beyond >= -tol
+    if tie is not None and np.isfinite(tie[0]):
+        tie_null = np.asarray(tie[1], dtype=np.float64)[finite]
+        tied = np.abs(beyond) <= tol
+        # NaN second values count as tied all the way (at least as extreme): conservative.
+        tie_ok = ~(sign * (tie_null - tie[0]) < -1e-12 * max(1.0, abs(tie[0])))
+        extreme = (beyond > tol) | (tied & tie_ok)
+    exceed = int(extreme.sum())
+    out.update(mean=mean, sd=sd, z=sign * (observed - mean) / sd if sd > 0 else np.nan,
                p=(1 + exceed) / (1 + n_valid))
     return out
 
 
 def label_permutation_null(stat: Callable, labels, *, n_perm: int, seed,
-                           batched: bool = False) -> dict:
+                           batched: bool = False, direction: str = "higher",
+                           tiebreak: Callable | None = None) -> dict:
     """Permutation null of any statistic of the labels: mean, sd, z and one-sided p.
 
-    ``p = (1 + #{perm : T(perm) ≥ T_obs}) / (1 + N)`` (Phipson & Smyth 2010: never 0, exact
-    for random permutations drawn with replacement); ``z = (T_obs − mean)/sd``. Permutations
+    With ``direction="higher"`` (larger T means more division)
+    ``p = (1 + #{perm : T(perm) ≥ T_obs}) / (1 + N)`` and ``z = (T_obs − mean)/sd``; with
+    ``direction="lower"`` ``p = (1 + #{perm : T(perm) ≤ T_obs}) / (1 + N)`` and
+    ``z = (mean − T_obs)/sd``. So a small p and a positive z always mean "more split than
+    random groups of the same sizes" (Phipson & Smyth 2010: p is never 0, and exact for
+    random permutations drawn with replacement). Permutations
     whose statistic is NaN are left out of N; the returned ``n_perm`` counts those used. z is
     NaN when the null has no spread; everything but ``observed`` is NaN when the observed
     value is not finite.
@@ -72,6 +98,13 @@ def label_permutation_null(stat: Callable, labels, *, n_perm: int, seed,
     labels : (n,) array of the members' groups.
     n_perm : int, keyword-only.
     seed : keyword-only, for ``np.random.default_rng``.
+    direction : "higher" or "lower", keyword-only; the side that means more division (the
+        metric's registry entry, :func:`blocwatch.metrics.registry.metric_direction`).
+    tiebreak : callable, keyword-only; ``tiebreak(labels) -> float`` read in the same
+        direction. Permutations tied with the observed value (within 1e-12) count towards p
+        only if they are at least as extreme on it too, i.e. the test statistic is the pair
+        (stat, tiebreak) ordered lexicographically, still a function of the labels, so p
+        stays exact. Not with ``batched``. mean, sd and z describe ``stat`` alone.
 
     Returns
     -------
@@ -85,6 +118,9 @@ def label_permutation_null(stat: Callable, labels, *, n_perm: int, seed,
     >>> r = label_permutation_null(gap, lab, n_perm=999, seed=1)
     >>> r["observed"], bool(r["p"] < 0.1)
     (9.0, True)
+    >>> r = label_permutation_null(gap, lab, n_perm=999, seed=1, direction="lower")
+    >>> bool(r["p"] > 0.9), bool(r["z"] < 0)
+    (True, True)
 
     References
     ----------
@@ -94,13 +130,18 @@ def label_permutation_null(stat: Callable, labels, *, n_perm: int, seed,
     """
     labels = np.asarray(labels)
     perms = permuted_labels(labels, n_perm, seed=seed)
+    if tiebreak is not None and batched:
+        raise ValueError("tiebreak: expected an unbatched statistic, received batched=True; "
+                         "compute the pair per permutation")
     if batched:
         observed = float(np.asarray(stat(labels[None, :]), dtype=np.float64)[0])
         null = np.asarray(stat(perms), dtype=np.float64).reshape(-1)
     else:
         observed = float(stat(labels))
         null = np.array([stat(p) for p in perms], dtype=np.float64)
-    return _summary(observed, null)
+    tie = None if tiebreak is None else (
+        float(tiebreak(labels)), np.array([tiebreak(p) for p in perms], dtype=np.float64))
+    return _summary(observed, null, direction, tie)
 
 
 def batched_group_modularity(weights, label_stack, *, resolution: float = 1.0) -> np.ndarray:

@@ -25,6 +25,9 @@ from blocwatch.metrics.reference import METRIC_INFO, MetricInfo
 # Vote codes in a member × ballot matrix (int8).
 MISSING, YES, NO, ABSTAIN = 0, 1, 2, 3
 
+# Which side of a metric means "more division between groups".
+DIRECTIONS = ("higher", "lower")
+
 
 @dataclass(frozen=True)
 class PeriodInput:
@@ -97,6 +100,16 @@ class Family:
     # Optional PeriodInput fields the family reads (e.g. "scores", None for yes/no bodies):
     # compute_all leaves the family out of a period where one of them is None.
     needs: tuple[str, ...] = ()
+    # Which way means "more division" per metric ("higher" or "lower"); metrics without an
+    # entry have no such reading. The label-permutation null tests in this direction.
+    direction: dict[str, str] = field(default_factory=dict)
+    # Optional second statistic per null-tested metric, ``f(PeriodInput) -> float`` read in the
+    # same direction, that orders permutations tied on the metric itself (a discrete measure
+    # with an atom, e.g. a cross-group share of 0, would otherwise lose its power).
+    null_tiebreak: dict[str, Callable[[PeriodInput], float]] = field(default_factory=dict)
+    # How the bootstrap interval is read off the replicates (metrics/resampling.py
+    # INTERVAL_METHODS), chosen per family for coverage: tests/benchmarks/coverage.py.
+    interval: str = "percentile"
 
 
 FAMILIES: dict[str, Family] = {}
@@ -105,23 +118,49 @@ FAMILIES: dict[str, Family] = {}
 def register(name: str, metrics: tuple[str, ...], *,
              bounds: dict[str, tuple[float, float]] | None = None,
              permutation_null: tuple[str, ...] = (), expensive: bool = False,
-             needs: tuple[str, ...] = ()):
+             needs: tuple[str, ...] = (), direction: dict[str, str] | None = None,
+             null_tiebreak: dict[str, Callable[[PeriodInput], float]] | None = None,
+             interval: str = "percentile"):
     """Decorator: add a family to :data:`FAMILIES`.
 
     ``bounds`` gives the closed interval each metric must lie in (the invariance suite checks
     it); ``permutation_null`` names the metrics that get a label-permutation null;
     ``expensive`` marks families whose every call fits or optimises something; ``needs``
     names optional :class:`PeriodInput` fields without which the family is left out.
+    ``direction`` maps a metric to ``"higher"`` or ``"lower"``: the side that means more
+    division between groups; every metric in ``permutation_null`` must have one.
+    ``null_tiebreak`` gives a null-tested metric a second statistic that orders tied
+    permutations (:func:`blocwatch.metrics.nulls.label_permutation_null`). ``interval`` is
+    the bootstrap interval method of every metric of the family
+    (:func:`blocwatch.metrics.resampling.bootstrap_interval`).
     """
+    direction = dict(direction or {})
+    bad = {m: d for m, d in direction.items() if d not in DIRECTIONS or m not in metrics}
+    untested = [m for m in permutation_null if m not in direction]
+    if bad or untested:
+        raise ValueError(f"metric family {name!r}: expected a direction in {DIRECTIONS} for "
+                         f"each of its null-tested metrics, received {bad or untested}")
 
     def deco(func: Callable[[PeriodInput], dict[str, MetricValue]]):
         if name in FAMILIES:
             raise ValueError(f"metric family {name!r} is registered twice")
         FAMILIES[name] = Family(name, metrics, func, bounds or {}, permutation_null, expensive,
-                                needs)
+                                needs, direction, dict(null_tiebreak or {}), interval)
         return func
 
     return deco
+
+
+def metric_direction(metric: str) -> str | None:
+    """``"higher"`` or ``"lower"``: which way of ``metric`` means more division, else None.
+
+    >>> metric_direction("cross_group_share"), metric_direction("communities")
+    ('lower', None)
+    """
+    for fam in FAMILIES.values():
+        if metric in fam.metrics:
+            return fam.direction.get(metric)
+    return None
 
 
 def metric_names() -> list[str]:

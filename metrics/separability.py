@@ -183,7 +183,8 @@ _NAMES = ("separability", "silhouette")
 
 @register("separability", _NAMES,
           bounds={"separability": (0.0, 1.0), "silhouette": (-1.0, 1.0)},
-          permutation_null=("separability",), expensive=True)
+          permutation_null=("separability",), expensive=True,
+          direction={"separability": "higher", "silhouette": "higher"})
 def _family(inp: PeriodInput) -> dict[str, MetricValue]:
     codes, k = normalise_labels(inp.labels)
     d = agreement_distances(inp.agreement)

@@ -88,4 +88,9 @@ def filter_period(vm: VoteMatrix, opts: AgreementOptions) -> VoteMatrix:
     """The period as its numbers see it: rule 1 on the ballots, then rule 2 on the members."""
     vm = vm.subset(ballots=ballot_mask(vm.votes, vm.scales, opts))
     keep = member_mask(vm.votes, opts.min_share_cast)
-    return vm.subset(members=keep, dropped=int((~keep).sum()))
+    # Who was left out, with their counts (stored as members rows: build/left_out.py).
+    cast = (vm.votes != MISSING).sum(axis=1)
+    needed = max(1, int(np.ceil(opts.min_share_cast * vm.votes.shape[1])))
+    left = tuple((str(vm.member_ids[i]), str(vm.groups[i]), int(cast[i]), needed,
+                  "min_share_cast") for i in np.flatnonzero(~keep))
+    return vm.subset(members=keep, dropped=int((~keep).sum()), left_out=left)

@@ -1,8 +1,10 @@
 """Vote matrices: one body × period read from the store as a member × ballot int8 array.
 
 A member's group in a period is the group in force on the dates of most of the ballots the
-member cast in it (ties go to the alphabetically first group); members with no group on those
-dates are left out and counted in ``dropped``.
+member cast in it (ties go to the alphabetically first group), and every member placed that
+way is listed in ``placements`` with its ballots per group; members with no group on those
+dates are left out, counted in ``dropped`` and listed in ``left_out`` (as are, later, members
+below ``--min-share-cast``: :func:`blocwatch.pipeline.build.filters.filter_period`).
 """
 
 from __future__ import annotations
@@ -37,6 +39,12 @@ class VoteMatrix:
     # (b,) str topic of each ballot or '' (per-topic and agenda-standardised series); None
     # when no ballot of the period has one.
     topics: np.ndarray | None = None
+    # Who was left out and why: (member_id, group or "", ballots cast, ballots needed or 0,
+    # reason "no_group" | "min_share_cast"), in the order the rules ran.
+    left_out: tuple = ()
+    # Members in more than one group during the period: (member_id, placed group,
+    # ((group, ballots cast while in it), ...)); see module docstring for the rule.
+    placements: tuple = ()
 
     @property
     def labels(self) -> np.ndarray:
@@ -48,14 +56,15 @@ class VoteMatrix:
         return [str(g) for g in np.unique(self.groups)]
 
     def subset(self, members: np.ndarray | None = None, ballots: np.ndarray | None = None,
-               *, dropped: int = 0) -> VoteMatrix:
+               *, dropped: int = 0, left_out: tuple = ()) -> VoteMatrix:
         m = slice(None) if members is None else members
         b = slice(None) if ballots is None else ballots
         scales = None if self.scales is None else self.scales.subset(m, b)
         topics = None if self.topics is None else self.topics[b]
         return VoteMatrix(self.body, self.period, self.member_ids[m], self.names[m],
                           self.groups[m], self.ballot_ids[b], self.items[b],
-                          self.votes[m][:, b], self.dropped + dropped, scales, topics)
+                          self.votes[m][:, b], self.dropped + dropped, scales, topics,
+                          self.left_out + tuple(left_out), self.placements)
 
 
 def ballot_date_range(store: Store, body: str) -> tuple | None:
@@ -91,14 +100,22 @@ def load_votes(store: Store, body: str, period: Period) -> VoteMatrix:
 
 def _assemble(body: str, period: Period, votes: pd.DataFrame, groups: pd.DataFrame,
               names: pd.DataFrame) -> VoteMatrix:
-    groups = (groups.sort_values(["member_id", "n", "group_name"], ascending=[True, False, True])
-              .drop_duplicates("member_id"))
+    ordered = groups.sort_values(["member_id", "n", "group_name"], ascending=[True, False, True])
+    groups = ordered.drop_duplicates("member_id")
+    several = ordered[ordered["member_id"].duplicated(keep=False)]
+    placements = tuple(
+        (str(mid), str(part["group_name"].iloc[0]),
+         tuple((str(g), int(k)) for g, k in zip(part["group_name"], part["n"])))
+        for mid, part in several.groupby("member_id", sort=True))
     all_members = votes["member_id"].unique()
     with_group = groups.set_index("member_id")["group_name"]
     keep = np.array([m in with_group.index for m in all_members], dtype=bool) \
         if len(all_members) else np.zeros(0, dtype=bool)
     members = np.sort(all_members[keep]).astype(object)
     dropped = int((~keep).sum())
+    cast = votes[votes["choice"] != "absent"]["member_id"].value_counts()
+    left_out = tuple((str(m), "", int(cast.get(m, 0)), 0, "no_group")
+                     for m in sorted(all_members[~keep]))
     votes = votes[votes["member_id"].isin(set(members))]
     ballot_order = votes.drop_duplicates("ballot_id")[["ballot_id", "item", "topic"]
                                                       if "topic" in votes else
@@ -115,4 +132,5 @@ def _assemble(body: str, period: Period, votes: pd.DataFrame, groups: pd.DataFra
     return VoteMatrix(body, period, members, member_names,
                       with_group.reindex(members).to_numpy(dtype=object), ballots,
                       ballot_order["item"].to_numpy(dtype=object), matrix, dropped,
-                      topics=topics if topics is not None and any(topics) else None)
+                      topics=topics if topics is not None and any(topics) else None,
+                      left_out=left_out, placements=placements)

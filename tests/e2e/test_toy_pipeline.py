@@ -46,3 +46,28 @@ def test_toy_roll_call_end_to_end(run_cli, tmp_path, toy_files):
     assert with_v3["group_modularity"] == pytest.approx(float(Fraction(1, 14)))
     without_v3 = _metrics(run_cli, tmp_path)
     assert without_v3["group_modularity"] == pytest.approx(0.2)
+
+
+def test_toy_roll_call_at_default_min_shared_names_the_minimum(run_cli, tmp_path, toy_files):
+    # The toy roll call's four ballots (tests/toy_rollcall.py), default --min-shared 5: v3 is
+    # unanimous and left out, every pair shared the other 3, so no pair reaches the minimum. Each
+    # empty value must say so with the value and the flag, not "the graph has no edges".
+    run_cli("ingest", toy_files, "--store", "toy.duckdb", "--body", "Toy", check=True)
+    run_cli("build", "--store", "toy.duckdb", "--bootstrap", 0, "--permutations", 0,
+            check=True)
+    for table in ("metrics", "members"):
+        out = run_cli("export", "--store", "toy.duckdb", "--table", table, check=True).stdout
+        frame = pd.read_csv(io.StringIO(out))
+        empty = frame[frame["value"].isna()]
+        assert len(empty) > 0
+        for note in empty["note"]:
+            if "one group" in str(note) or "vote matrix" in str(note):
+                continue
+            assert "minimum of 5 ballots (--min-shared 5)" in note, (table, note)
+            assert "the most any pair shared was 3" in note and "--min-shared 3" in note
+            assert "no edges" not in note and "shared a ballot" not in note
+    # Following the note's fix gives the pairs values.
+    run_cli("build", "--store", "toy.duckdb", "--bootstrap", 0, "--permutations", 0,
+            "--min-shared", 3, check=True)
+    out = run_cli("export", "--store", "toy.duckdb", "--table", "metrics", check=True).stdout
+    assert pd.read_csv(io.StringIO(out)).set_index("metric")["value"]["group_modularity"] > 0

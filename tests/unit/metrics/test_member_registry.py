@@ -9,7 +9,7 @@ from blocwatch.metrics.registry import PeriodInput
 from tests.spatial_sim import spatial_votes
 
 EXPECTED = ["cross_tie_share", "participation", "cross_partners", "delta_q", "loyalty",
-            "ideal_point", "mds_1", "mds_2"]
+            "ideal_point", "mds_1", "mds_2", "bridging", "bridge_rank", "bridging_null_p"]
 
 
 def _inp(votes, labels):

@@ -103,3 +103,46 @@ def test_ballot_bootstrap_intervals_cover_the_large_sample_value():
         low, high = percentile_interval(boot)
         covered += low <= truth <= high
     assert covered >= 0.85 * 60, covered
+
+
+class _Given:
+    """Hands scipy.stats.bootstrap our own replicates (its ``bootstrap_result`` argument)."""
+
+    def __init__(self, values):
+        self.bootstrap_distribution = np.asarray(values)
+
+
+@pytest.mark.parametrize("method, scipy_method", [("percentile", "percentile"),
+                                                  ("basic", "basic"), ("bc", "BCa")])
+def test_bootstrap_interval_matches_scipy_on_the_same_replicates(method, scipy_method):
+    # [S: scipy.stats.bootstrap, n_resamples=0 with our replicates]. Data symmetric about
+    # their mean make scipy's jackknife acceleration exactly 0, so its BCa is the BC interval.
+    from scipy import stats
+
+    data = np.arange(1.0, 9.0)
+    reps = np.random.default_rng(0).normal(4.9, 1.0, 999)  # shifted: z0 ≠ 0
+    ref = stats.bootstrap((data,), np.mean, n_resamples=0, bootstrap_result=_Given(reps),
+                          method=scipy_method, confidence_level=0.9).confidence_interval
+    got = resampling.bootstrap_interval(data.mean(), reps, method=method, level=0.9)
+    assert got == pytest.approx((ref.low, ref.high), rel=1e-9)
+
+
+def test_bootstrap_interval_properties():
+    reps = np.random.default_rng(1).normal(0.3, 0.05, 400)
+    pct = resampling.bootstrap_interval(0.2, reps, method="percentile")
+    basic = resampling.bootstrap_interval(0.2, reps, method="basic")
+    # Basic reflects the percentile interval through the estimate: same width, mirrored.
+    assert basic[1] - basic[0] == pytest.approx(pct[1] - pct[0])
+    assert basic[0] + pct[1] == pytest.approx(0.4) and basic[1] + pct[0] == pytest.approx(0.4)
+    # An estimate at the replicates' median makes BC the percentile interval (z0 = 0).
+    med = float(np.median(reps))
+    assert resampling.bootstrap_interval(med, reps, method="bc") == pytest.approx(
+        resampling.bootstrap_interval(med, reps, method="percentile"), abs=2e-3)
+    # Bounds clip; NaN replicates are ignored; nothing finite gives NaN.
+    low, _ = resampling.bootstrap_interval(0.0, np.abs(reps), method="basic", bounds=(0, 1))
+    assert low == 0.0
+    assert resampling.bootstrap_interval(0.2, [*reps, np.nan], method="bc") == pytest.approx(
+        resampling.bootstrap_interval(0.2, reps, method="bc"))
+    assert np.isnan(resampling.bootstrap_interval(0.2, [np.nan], method="basic")[0])
+    with pytest.raises(ValueError, match="method"):
+        resampling.bootstrap_interval(0.2, reps, method="studentised")
