@@ -24,8 +24,10 @@ CLI = ([shutil.which("blocwatch")] if shutil.which("blocwatch")
 @pytest.fixture(scope="module")
 def demo(tmp_path_factory):
     out = tmp_path_factory.mktemp("demo")
+    # A guard against a hung run, not a speed check: the full-default demo takes minutes on
+    # a shared 2-core machine (issue 14's 15 s target is not met yet).
     proc = subprocess.run([*CLI, "demo", "--out", str(out / "d")], capture_output=True,
-                          text=True, timeout=600)
+                          text=True, timeout=1800)
     assert proc.returncode == 0, proc.stderr
     export = subprocess.run([*CLI, "export", "--store", str(out / "d" / "blocwatch.duckdb"),
                              "--table", "metrics"], capture_output=True, text=True, timeout=120)
