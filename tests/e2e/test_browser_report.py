@@ -68,9 +68,14 @@ def test_briefing_renders_every_chart_offline(site, browser):
     m = tables.metrics[tables.metrics.body == HARBOUR]
     cps = json.loads(tables.trends.loc[tables.trends.body == HARBOUR, "change_points"].iloc[0])
     periods = sorted({m.period.min(), m.period.max(), *cps})
-    # One trend chart per metric with any value, one network per chosen period, one heat map.
+    # One trend chart per metric with any value, one network per chosen period, one heat map,
+    # and one chart of each pair of groups' agreement when the body has three or more groups.
     n_metrics = m[m.value.notna()].metric.nunique()
-    assert len(plots) == browser.eval("window.__bwCharts") == n_metrics + len(periods) + 1
+    ga = tables.group_agreement[tables.group_agreement.body == HARBOUR]
+    n_pairs = int(len(set(ga.group_a) | set(ga.group_b)) >= 3)
+    assert len([p for p in plots if "-pairs-" in p["id"]]) == n_pairs
+    assert len(plots) == browser.eval("window.__bwCharts") == (n_metrics + len(periods) + 1
+                                                               + n_pairs)
     trends = [p for p in plots if "-trend-" in p["id"]]
     networks = [p for p in plots if "-network-" in p["id"]]
     heat = [p for p in plots if p["id"].endswith("groups-heatmap")]
