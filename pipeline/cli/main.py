@@ -409,8 +409,8 @@ def rebuild(ctx, store_path, body, full, out, with_report, images, **flags):
     result = run_rebuild(store, options=opts, body=body, full=full,
                          out=out_dir if with_report else None, write_outputs=write,
                          progress=_progress(ctx, "rebuild"))
-    for src in result.ingested:
-        click.echo(f"loaded: {src.path} ({src.state})")
+    for line in result.load_lines():
+        click.echo(line)
     for note in result.notes:
         click.echo(f"note: {note}", err=True)
     if result.build is not None:

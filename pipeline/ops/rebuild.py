@@ -69,10 +69,20 @@ class RebuildReport:
     build: BuildReport | None = None
     outputs: list[Path] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
+    code_lines: dict[str, str] = field(default_factory=dict)  # path -> what its codes became
 
     @property
     def nothing_to_do(self) -> bool:
         return self.build is None and not self.ingested and not self.outputs
+
+    def load_lines(self) -> list[str]:
+        """A line per file loaded, each votes file's followed by what its raw codes became."""
+        out = []
+        for src in self.ingested:
+            out.append(f"loaded: {src.path} ({src.state})")
+            if str(src.path) in self.code_lines:
+                out.append(self.code_lines[str(src.path)])
+        return out
 
     def summary(self) -> str:
         files = f"{len(self.sources)} source file(s), {len(self.ingested)} loaded"
@@ -193,7 +203,8 @@ def rebuild(store_path: str | Path, *, options: BuildOptions | None = None,
         with Store(store_path) as store:
             report.sources = scan_sources(store, cfg, body)
             pending = [s for s in report.sources if s.state != "loaded"]
-            report.ingested = load_scan(store, cfg, pending) if pending else []
+            if pending:
+                report.ingested, report.code_lines = load_scan(store, cfg, pending)
             empty = [n for n in _config_bodies(cfg, body)
                      if not any(s.body == n and s.kind == "votes" for s in report.sources)]
             report.notes = [f"bodies.{n}.sources matches no file yet" for n in empty]

@@ -100,8 +100,12 @@ def _stopped(exc: BlocwatchError, group: Group, cfg: Config, pending: list) -> B
     return new
 
 
-def load_scan(store: Store, cfg: Config, pending: list) -> list:
-    """Load every pending file of the scan, or none of them; return the ones loaded."""
+def load_scan(store: Store, cfg: Config, pending: list) -> tuple[list, dict[str, str]]:
+    """Load every pending file of the scan, or none of them.
+
+    Returns the files loaded and, by path, each votes file's line saying what its raw codes
+    became (as ``ingest`` prints it), so a rebuild's loads can be vouched for as well.
+    """
     groups = _groups(cfg, pending)
     changed_before = set()
     for group in groups:
@@ -117,13 +121,14 @@ def load_scan(store: Store, cfg: Config, pending: list) -> list:
             raise _stopped(problems.first_error(), group, cfg, pending)
         if group.state == "changed":
             changed_before.add(group.body)
-    done = []
+    done, code_lines = [], {}
     current = groups[0] if groups else None
     try:
         with store.transaction():
             for current in groups:
-                _load(store, cfg, current, check_only=False)
+                report = _load(store, cfg, current, check_only=False)
                 done += current.sources
+                code_lines |= {f.path: f.code_line() for f in report.files if f.code_line()}
     except BlocwatchError as exc:
         raise _stopped(exc, current, cfg, pending) from exc
-    return done
+    return done, code_lines

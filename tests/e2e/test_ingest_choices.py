@@ -89,8 +89,15 @@ def test_inline_codes_table_from_init_works_for_ingest_and_rebuild(run_cli, tmp_
     ingested = _choices(tmp_path / "blocwatch.duckdb")
     (tmp_path / "blocwatch.duckdb").unlink()
     (tmp_path / "blocwatch.duckdb.lock").unlink()
-    run_cli("rebuild", "--bootstrap", "0", "--permutations", "0", "--no-report", check=True)
+    proc = run_cli("rebuild", "--bootstrap", "0", "--permutations", "0", "--no-report",
+                   check=True)
     assert _choices(tmp_path / "blocwatch.duckdb") == ingested
+    # the rebuild says what each code became too, right under the file it loaded
+    loaded = tmp_path.resolve() / "data" / "votes-2020.csv"
+    lines = proc.stdout.splitlines()
+    at = lines.index(f"loaded: {loaded} (new)")
+    assert lines[at + 1] == (f"  codes in {loaded}: 'Ja' → yes ×3, 'Abs' → abstain ×2, "
+                             "(blank) → absent ×1, 'Nein' → no ×2")
     assert ingested[("x1", "A2")] == "abstain" and ingested[("x2", "A1")] == "no"
 
 
