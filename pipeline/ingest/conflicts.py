@@ -11,7 +11,6 @@ from __future__ import annotations
 from blocwatch.pipeline.ingest.codes import normalise
 from blocwatch.pipeline.ingest.validate import (
     EXAMPLES,
-    Problem,
     Problems,
     add_rest,
     add_row_problem,
@@ -19,6 +18,8 @@ from blocwatch.pipeline.ingest.validate import (
 )
 from blocwatch.pipeline.safety import show
 from blocwatch.pipeline.store.database import Store
+
+PAIR = "member-ballot pair"  # the unit of a vote given twice: one member on one ballot
 
 
 def reduce_votes(store: Store, staged, k: int, problems: Problems, *,
@@ -80,12 +81,10 @@ def reduce_votes(store: Store, staged, k: int, problems: Problems, *,
             add_row_problem(problems, staged, "duplicate", r2, "raw", v2,
                             f"member {show(member)} votes {show(v2)} on ballot {show(ballot)} "
                             f"here and {show(v1)} at {at}",
-                            "keep one row per member and ballot", count=1)
-        if n > EXAMPLES:
-            problems.add(Problem("duplicate", staged.name, f"{n - EXAMPLES} more member and "
-                                 "ballot pairs are given twice with different votes",
-                                 "keep one row per member and ballot", count=n - EXAMPLES,
-                                 unit=staged_unit(staged), rest=True))
+                            "keep one row per member and ballot", count=1, unit=PAIR)
+        add_rest(problems, staged, "duplicate", n - len(examples), PAIR,
+                 f"{PAIR}s given twice with different votes", "keep one row per member and "
+                 "ballot")
     return table
 
 
@@ -100,20 +99,26 @@ def reduce_ballots(store: Store, staged, k: int, problems: Problems) -> str:
     # Dates compare as dates (2020-2-3 = 2020-02-03); unparseable ones were reported already.
     for col, key, word in (("held_on", "day", "dates"), ("title", "title", "titles"),
                            ("item", "item", "agenda items"), ("topic", "topic", "topics")):
+        two = f"FROM {table} GROUP BY body, ballot_id HAVING count(DISTINCT {key}) > 1"
+        n = store.scalar(f"SELECT count(*) FROM (SELECT 1 {two})")
+        if not n:
+            continue
+        fix = (f"give every row of a ballot the same {word[:-1]}, or give different ballots "
+               "different ids")
         rows = store.rows(f"""
             SELECT ballot_id, list({col} ORDER BY rid) FILTER (WHERE {key} IS NOT NULL),
                    list({key} ORDER BY rid) FILTER (WHERE {key} IS NOT NULL),
-                   list(rid ORDER BY rid) FILTER (WHERE {key} IS NOT NULL) FROM {table}
-            GROUP BY body, ballot_id HAVING count(DISTINCT {key}) > 1
-            ORDER BY min(rid) LIMIT {EXAMPLES}""")
+                   list(rid ORDER BY rid) FILTER (WHERE {key} IS NOT NULL)
+            {two} ORDER BY min(rid) LIMIT {EXAMPLES}""")
         for ballot, values, keys, rids in rows:
             later = next(i for i, v in enumerate(keys) if v != keys[0])
             first = staged.place(rids[0], col)
             at = f"line {first[0]}" if first[0] else first[1]
             add_row_problem(problems, staged, "ballot", rids[later], col, values[later],
                             f"ballot {show(ballot)} has two {word}: {show(values[later])} here "
-                            f"and {show(values[0])} at {at}", f"give every row of a ballot the "
-                            f"same {word[:-1]}, or give different ballots different ids")
+                            f"and {show(values[0])} at {at}", fix, unit="ballot")
+        add_rest(problems, staged, "ballot", n - len(rows), "ballot", f"ballots with two {word}",
+                 fix)
     return table
 
 
@@ -130,6 +135,7 @@ def combine_votes(store: Store, tables: list[str], staged_by_k: dict, *, replace
                count(DISTINCT choice) AS n_files_choices, min(k) AS k_first
         FROM ({union}) GROUP BY body, ballot_id, member_id""")
     if not replace:
+        fix = "load the corrected file alone with --replace, or fix one of the two"
         rows = store.rows(f"""SELECT ballot_id, member_id, k_first, k, rid, raw, choice
                               FROM _bw_votes WHERE n_files_choices > 1
                               ORDER BY k, rid LIMIT {EXAMPLES}""")
@@ -137,9 +143,24 @@ def combine_votes(store: Store, tables: list[str], staged_by_k: dict, *, replace
             add_row_problem(problems, staged_by_k[k2], "conflict", rid, "raw", raw,
                             f"member {show(member)} votes {_vote(raw, choice)} on ballot "
                             f"{show(ballot)} here, but differently in {staged_by_k[k1].name}",
-                            "load the corrected file alone with --replace, or fix one of the "
-                            "two")
+                            fix)
+        rest_by_file(store, problems, staged_by_k, "conflict", "SELECT k FROM _bw_votes WHERE "
+                     "n_files_choices > 1", [r[3] for r in rows], None,
+                     "votes that differ from another file's", fix)
     return "_bw_votes"
+
+
+def rest_by_file(store: Store, problems: Problems, staged_by_k: dict, kind: str,
+                 keys_sql: str, shown: list[int], unit: str | None, what: str, fix: str,
+                 params: list | None = None) -> None:
+    """Count what the examples did not show, per file: ``keys_sql`` yields one ``k`` (the
+    staged file) per problem; ``shown`` holds the ``k`` of each example. ``unit`` None: the
+    file's rows (cells of a wide sheet)."""
+    for k, n in store.rows(f"SELECT k, count(*) FROM ({keys_sql}) GROUP BY k ORDER BY k",
+                           params or []):
+        s = staged_by_k[k]
+        u = unit or staged_unit(s)
+        add_rest(problems, s, kind, n - shown.count(k), u, what, fix)
 
 
 def store_conflicts(store: Store, votes: str, staged_by_k: dict, problems: Problems) -> None:
@@ -159,8 +180,10 @@ def store_conflicts(store: Store, votes: str, staged_by_k: dict, problems: Probl
         add_row_problem(problems, staged_by_k[k], "conflict", rid, "raw", raw,
                         f"member {show(member)} votes {_vote(raw, new)} on ballot {show(ballot)} "
                         f"here, but the store holds {old}", fix)
-    add_rest(problems, staged_by_k[rows[-1][0]], "conflict", n - len(rows),
-             staged_unit(staged_by_k[rows[-1][0]]), "votes that differ from the stored ones", fix)
+    rest_by_file(store, problems, staged_by_k, "conflict", f"""SELECT n.k FROM {votes} n
+                 JOIN votes v ON v.body = n.body AND v.ballot_id = n.ballot_id
+                 AND v.member_id = n.member_id WHERE v.choice <> n.choice""",
+                 [r[0] for r in rows], None, "votes that differ from the stored ones", fix)
 
 
 def _vote(raw, choice: str) -> str:
@@ -185,15 +208,20 @@ def resolve_ballots(store: Store, vote_ballots: list[str], file_ballots: str | N
         return "_bw_bal"
     store.stage("_bw_ball", " UNION ALL ".join(parts))
     # A date given in the votes files and a different one in the ballots file.
-    rows = store.rows(f"""
-        SELECT a.ballot_id, a.held_on, a.k, a.rid, b.held_on, b.k, b.rid
-        FROM _bw_ball a JOIN _bw_ball b ON a.body = b.body AND a.ballot_id = b.ballot_id
+    clash = """FROM _bw_ball a JOIN _bw_ball b ON a.body = b.body AND a.ballot_id = b.ballot_id
         WHERE a.src = 0 AND b.src = 1 AND a.day IS NOT NULL AND b.day IS NOT NULL
-              AND a.day <> b.day LIMIT {EXAMPLES}""")
+              AND a.day <> b.day"""
+    rows = store.rows(f"""
+        SELECT DISTINCT ON (b.k, b.rid) a.ballot_id, a.held_on, a.k, a.rid, b.held_on, b.k,
+               b.rid {clash} ORDER BY b.k, b.rid, a.k, a.rid LIMIT {EXAMPLES}""")
+    fix = "make the two files agree on the date"
     for ballot, d1, k1, r1, d2, k2, r2 in rows:
         add_row_problem(problems, staged_by_k[k2], "ballot", r2, "held_on", d2,
                         f"ballot {show(ballot)} is dated {show(d2)} here but {show(d1)} in "
-                        f"{staged_by_k[k1].name}", "make the two files agree on the date")
+                        f"{staged_by_k[k1].name}", fix, unit="ballot")
+    rest_by_file(store, problems, staged_by_k, "ballot", f"SELECT DISTINCT b.k, b.body, "
+                 f"b.ballot_id {clash}", [r[5] for r in rows], "ballot",
+                 "ballots dated differently in the votes and the ballots file", fix)
     store.stage("_bw_bal", """
         WITH g AS (SELECT body, ballot_id, min(day) AS day, arg_min(title, src * 1e12 + rid)
                    FILTER (WHERE title IS NOT NULL) AS title, arg_min(item, src * 1e12 + rid)
@@ -218,28 +246,32 @@ def resolve_ballots(store: Store, vote_ballots: list[str], file_ballots: str | N
         touched = int(store.scalar(f"SELECT {cells}")) if cells else 0
         units = {staged_unit(s) for s in staged_by_k.values() if s.kind == "votes"}
         votes = f"{touched:,} {'cells' if units == {'cell'} else 'votes'}"
-        for i, (k, rid, ballot) in enumerate(store.rows(
-                f"SELECT k, rid, ballot_id FROM _bw_bal WHERE held_on IS NULL AND NOT bad_date "
-                f"ORDER BY k, rid LIMIT {EXAMPLES}")):
+        undated = store.rows(f"SELECT k, rid, ballot_id FROM _bw_bal WHERE held_on IS NULL "
+                             f"AND NOT bad_date ORDER BY k, rid LIMIT {EXAMPLES}")
+        for i, (k, rid, ballot) in enumerate(undated):
             whole = f" ({n:,} ballots without a date hold {votes})" if i == 0 and n > 1 else ""
             add_row_problem(problems, staged_by_k[k], "date", rid, "ballot_id", ballot,
                             f"ballot {show(ballot)} has no date{whole}", fix, unit="ballot")
-        if n > EXAMPLES:
-            add_rest(problems, staged_by_k[k], "date", n - EXAMPLES, "ballot",
+        rest_by_file(store, problems, staged_by_k, "date", "SELECT k FROM _bw_bal WHERE "
+                     "held_on IS NULL AND NOT bad_date", [r[0] for r in undated], "ballot",
                      "ballots without a date", fix)
     if not replace:
-        for k, rid, ballot, new, old in store.rows(
-                f"SELECT k, rid, ballot_id, held_on, stored_on FROM _bw_bal WHERE stored_on IS "
-                f"NOT NULL AND held_on <> stored_on ORDER BY k, rid LIMIT {EXAMPLES}"):
-            add_row_problem(problems, staged_by_k[k], "conflict", rid, "held_on", str(new),
-                            f"ballot {show(ballot)} is dated {new} here but {old} in the store",
-                            "pass --replace to overwrite the stored ballot, or fix the date")
         # A stored topic is changed only on purpose (it moves the ballot's periods' numbers).
-        for k, rid, ballot, new, old in store.rows(
-                f"SELECT k, rid, ballot_id, topic, stored_topic FROM _bw_bal WHERE stored_topic "
-                f"IS NOT NULL AND topic <> stored_topic ORDER BY k, rid LIMIT {EXAMPLES}"):
-            add_row_problem(problems, staged_by_k[k], "conflict", rid, "topic", new,
-                            f"ballot {show(ballot)} has the topic {show(new)} here but "
-                            f"{show(old)} in the store", "pass --replace to overwrite the "
-                            "stored ballot, or fix the topic")
+        for col, stored, what, word in (("held_on", "stored_on", "is dated {new} here but {old}",
+                                         "date"),
+                                        ("topic", "stored_topic", "has the topic {new} here but "
+                                         "{old}", "topic")):
+            where = f"FROM _bw_bal WHERE {stored} IS NOT NULL AND {col} <> {stored}"
+            fix = f"pass --replace to overwrite the stored ballot, or fix the {word}"
+            rows = store.rows(f"SELECT k, rid, ballot_id, {col}, {stored} {where} "
+                              f"ORDER BY k, rid LIMIT {EXAMPLES}")
+            for k, rid, ballot, new, old in rows:
+                value = str(new) if word == "date" else new
+                said = (str(new), str(old)) if word == "date" else (show(new), show(old))
+                add_row_problem(problems, staged_by_k[k], "conflict", rid, col, value,
+                                f"ballot {show(ballot)} " + what.format(new=said[0], old=said[1])
+                                + " in the store", fix, unit="ballot")
+            rest_by_file(store, problems, staged_by_k, "conflict", f"SELECT k {where}",
+                         [r[0] for r in rows], "ballot",
+                         f"ballots whose {word} differs from the stored one", fix)
     return "_bw_bal"

@@ -16,11 +16,13 @@ from pathlib import Path
 
 from blocwatch.pipeline.ingest import sniff
 from blocwatch.pipeline.ingest.readers import FIELDS, KINDS, Staged, problems_for, resolve_columns
+from blocwatch.pipeline.ingest.validate import KINDS as PROBLEM_KINDS
 from blocwatch.pipeline.ingest.validate import Problem, Problems
 from blocwatch.pipeline.safety import show
 from blocwatch.pipeline.store.database import ReadError, Store
 
 MAX_LINE_BYTES = 1 << 20
+_SHOWN = 20  # malformed rows listed one by one per kind; the rest are counted
 
 TEXT_TYPES = ("VARCHAR", "TINYINT", "SMALLINT", "INTEGER", "BIGINT", "HUGEINT", "UTINYINT",
               "USMALLINT", "UINTEGER", "UBIGINT", "UHUGEINT", "BOOLEAN")
@@ -61,7 +63,8 @@ def stage_csv(store: Store, path: Path, kind: str, table: str, body: str | None,
                              "check the delimiter, quoting and encoding (UTF-8)"))
         return None
     rejected = _rejects(store, path, name, rej, header.names, problems)
-    staged = Staged(path, name, kind, "csv", "long", table, headers, rows, scan_info.sha256)
+    staged = Staged(path, name, kind, "csv", "long", table, headers, rows, scan_info.sha256,
+                    rejected=len(rejected))
 
     def placer(rid: int, column: str | None):
         lines = sniff.record_lines(path, [rid], scan_info=scan_info, rejected_lines=rejected)
@@ -117,6 +120,7 @@ def _rejects(store: Store, path: Path, name: str, rej: str, names: list[str],
         return []
     lines = sniff.lines_at_bytes(path, [r[0] for r in rows])
     shown: dict[str, int] = {}
+    fixes: dict[str, str] = {}
     for pos, col, etype, csv_line, message in rows:
         kind, why, fix = _REJECT_KINDS.get(etype, ("shape", f"cannot be read ({message})",
                                                    "check the quoting and delimiters"))
@@ -125,8 +129,7 @@ def _rejects(store: Store, path: Path, name: str, rej: str, names: list[str],
                 else "?"
             why = f"has {found} fields, the header {len(names)}"
         shown[kind] = shown.get(kind, 0) + 1
-        if shown[kind] > 20:  # enough examples; count the rest in the last one
-            problems.items[-1] = _bump(problems.items[-1])
+        if shown[kind] > _SHOWN:  # enough examples; the rest are counted below
             continue
         column = names[col - 1] if etype.startswith("INVALID") and col and col <= len(names) \
             else None
@@ -138,6 +141,11 @@ def _rejects(store: Store, path: Path, name: str, rej: str, names: list[str],
             csv_line = csv_line.split("\n", 1)[0]
         problems.add(Problem(kind, name, f"{why}: {show(csv_line, 50)}", fix,
                              line=lines[pos], column=column, value=csv_line))
+        fixes[kind] = fix
+    for kind, n in shown.items():
+        if n > _SHOWN:
+            problems.add(Problem(kind, name, f"{n - _SHOWN:,} more rows with {PROBLEM_KINDS[kind]}",
+                                 fixes[kind], count=n - _SHOWN, rest=True))
     return sorted(lines.values())
 
 
@@ -151,10 +159,6 @@ def _raw_line(path: Path, pos: int) -> str:
     head = window[:cut].rfind(b"\n") + 1
     raw = window[head:].split(b"\n", 1)[0].rstrip(b"\r")
     return raw.decode("utf-8", "backslashreplace")
-
-
-def _bump(p: Problem) -> Problem:
-    return Problem(p.kind, p.file, p.why, p.fix, p.line, p.where, p.column, p.value, p.count + 1)
 
 
 def stage_parquet(store: Store, path: Path, kind: str, table: str, body: str | None,
@@ -272,13 +276,15 @@ def _broken_json(path: Path, name: str, problems: Problems) -> None:
                 why = f"is not valid JSON ({str(exc).split(':')[0]})"
             if why:
                 found += 1
-                if found <= 20:
+                if found <= _SHOWN:
                     text = raw.decode("utf-8", "replace")
                     problems.add(Problem("json", name, f"{why}: {show(text, 50)}",
                                          "write one complete JSON object per line",
                                          line=lineno, value=raw))
-                else:
-                    problems.items[-1] = _bump(problems.items[-1])
+    if found > _SHOWN:
+        problems.add(Problem("json", name, f"{found - _SHOWN:,} more lines that are not a JSON "
+                             "object", "write one complete JSON object per line",
+                             count=found - _SHOWN, rest=True))
     if not found:
         problems.add(Problem("json", name, "cannot be read as JSON lines",
                              "write one JSON object per line, every line the same fields"))

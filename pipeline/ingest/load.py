@@ -214,7 +214,8 @@ class _Load:
                                 scan_info=info, sheet=sheet, notes=self.notes)
             if staged is not None:
                 staged.sha256 = sha
-            self.results.append(FileResult(str(path), sha, staged.rows if staged else 0,
+            read = staged.rows + staged.rejected if staged else 0  # refused rows were read too
+            self.results.append(FileResult(str(path), sha, read,
                                            "checked" if self.check_only else "loaded", kind))
             if staged is not None:
                 self.results[-1].unit = staged_unit(staged)

@@ -20,6 +20,7 @@ from blocwatch.pipeline.ingest.validate import EXAMPLES, add_rest, add_row_probl
 from blocwatch.pipeline.safety import show
 
 _K = 1 << 40  # packs (file k, row) into one sortable BIGINT
+MEMBER_DAY = "member-date"  # the unit of a group problem: one member on one date
 
 
 def check(load, votes: dict[int, Staged], combined: str | None, bal: str):
@@ -60,19 +61,25 @@ def _observations(load, grouped: dict[int, Staged], bal: str) -> str | None:
                  WHERE t.group_name IS NOT NULL AND t.member_id IS NOT NULL
                        AND b.held_on IS NOT NULL GROUP BY ALL""" for k, s in grouped.items()]
     load.store.stage("_bw_obs_all", " UNION ALL ".join(parts))
-    for member, day, groups, ks, rids in load.store.rows(f"""
-            WITH bad AS (SELECT body, member_id, held_on FROM _bw_obs_all
-                         GROUP BY body, member_id, held_on
-                         HAVING min(group_name) <> max(group_name) LIMIT {EXAMPLES})
-            SELECT o.member_id, o.held_on, list(o.group_name ORDER BY o.rid),
-                   list(o.k ORDER BY o.rid), list(o.rid ORDER BY o.rid)
-            FROM _bw_obs_all o JOIN bad USING (body, member_id, held_on)
-            GROUP BY o.body, o.member_id, o.held_on ORDER BY min(o.rid)"""):
-        i = next(i for i, g in enumerate(groups) if g != groups[0])
-        add_row_problem(load.problems, load.staged[ks[i]], "member", rids[i], "group_name",
-                        groups[i], f"member {show(member)} is in group {show(groups[i])} "
-                        f"here but in {show(groups[0])} elsewhere on the same date {day}",
-                        "give a member one group per date")
+    # Each member with two groups on one date is one problem, placed at the first row that
+    # differs from the member's first group that day.
+    load.store.stage("_bw_obs_bad", f"""
+        WITH f AS (SELECT body, member_id, held_on, arg_min(group_name, k * {_K} + rid) AS g0
+                   FROM _bw_obs_all GROUP BY body, member_id, held_on
+                   HAVING min(group_name) <> max(group_name))
+        SELECT o.body, o.member_id, o.held_on, any_value(f.g0) AS g0,
+               arg_min(o.group_name, o.k * {_K} + o.rid) AS g, min(o.k * {_K} + o.rid) AS key
+        FROM _bw_obs_all o JOIN f USING (body, member_id, held_on) WHERE o.group_name <> f.g0
+        GROUP BY o.body, o.member_id, o.held_on""")
+    fix = "give a member one group per date"
+    shown = load.store.rows(f"SELECT key // {_K}, key % {_K}, member_id, held_on, g, g0 "
+                            f"FROM _bw_obs_bad ORDER BY key LIMIT {EXAMPLES}")
+    for k, rid, member, day, group, first in shown:
+        add_row_problem(load.problems, load.staged[k], "member", rid, "group_name", group,
+                        f"member {show(member)} is in group {show(group)} here but in "
+                        f"{show(first)} elsewhere on the same date {day}", fix, unit=MEMBER_DAY)
+    _rest(load, f"SELECT key // {_K} AS k FROM _bw_obs_bad", shown, MEMBER_DAY,
+          "members with two groups on one date", fix)
     load.store.stage("_bw_obs", """SELECT body, member_id, held_on, min(group_name) AS
                      group_name, min(rid) AS rid, min(k) AS k FROM _bw_obs_all
                      GROUP BY body, member_id, held_on""")
@@ -80,16 +87,26 @@ def _observations(load, grouped: dict[int, Staged], bal: str) -> str | None:
 
 def _roster_agrees(load, obs: str, spells: pd.DataFrame, grouped: dict[int, Staged]) -> None:
     load.store.stage_frame("_bw_roster_spells", spells[roster.SPELL_COLUMNS])
-    for k, rid, member, day, got, want in load.store.rows(f"""
-            SELECT o.k, o.rid, o.member_id, o.held_on, o.group_name, s.group_name
-            FROM {obs} o JOIN _bw_roster_spells s ON s.body = o.body
+    differ = f"""FROM {obs} o JOIN _bw_roster_spells s ON s.body = o.body
             AND s.member_id = o.member_id AND o.held_on BETWEEN CAST(s.valid_from AS DATE)
-            AND CAST(s.valid_to AS DATE) WHERE s.group_name <> o.group_name
-            ORDER BY o.k, o.rid LIMIT {EXAMPLES}"""):
+            AND CAST(s.valid_to AS DATE) WHERE s.group_name <> o.group_name"""
+    fix = "make the votes file and the roster agree, or leave the group column out"
+    shown = load.store.rows(f"SELECT o.k, o.rid, o.member_id, o.held_on, o.group_name, "
+                            f"s.group_name {differ} ORDER BY o.k, o.rid LIMIT {EXAMPLES}")
+    for k, rid, member, day, got, want in shown:
         add_row_problem(load.problems, grouped[k], "member", rid, "group_name", got,
                         f"member {show(member)} is in group {show(got)} on {day} here, but "
-                        f"in {show(want)} in the roster", "make the votes file and the "
-                        "roster agree, or leave the group column out")
+                        f"in {show(want)} in the roster", fix, unit=MEMBER_DAY)
+    _rest(load, f"SELECT DISTINCT o.k, o.body, o.member_id, o.held_on {differ}", shown,
+          MEMBER_DAY, "members whose group on a date differs from the roster's", fix)
+
+
+def _rest(load, keys_sql: str, shown: list, unit: str, what: str, fix: str) -> None:
+    """Count, per file, the problems ``keys_sql`` (one row per problem, ``k`` first) finds
+    beyond the ``shown`` examples (rows with ``k`` first)."""
+    ks = [r[0] for r in shown]
+    for k, n in load.store.rows(f"SELECT k, count(*) FROM ({keys_sql}) GROUP BY k ORDER BY k"):
+        add_rest(load.problems, load.staged[k], "member", n - ks.count(k), unit, what, fix)
 
 def _coverage(load, stored, merged, affected, combined: str, bal: str, *,
               derived_only: bool) -> None:

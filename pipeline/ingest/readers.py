@@ -81,6 +81,7 @@ class Staged:
     sha256: str
     placer: Placer = field(repr=False, default=lambda rid, col: (None, None, col))
     nulls: dict[str, int] = field(default_factory=dict)  # blank values per column (checks)
+    rejected: int = 0  # rows the reader refused (not staged; each is a problem)
 
     def place(self, rid: int, column: str | None) -> tuple[int | None, str | None, str | None]:
         """(line, where, column header) of staged row ``rid`` for a message."""

@@ -21,11 +21,12 @@ from datetime import date, timedelta
 
 import pandas as pd
 
-from blocwatch.pipeline.ingest.validate import Problems, add_row_problem
+from blocwatch.pipeline.ingest.validate import Problems, add_rest, add_row_problem, staged_unit
 from blocwatch.pipeline.safety import show
 from blocwatch.pipeline.store.database import OPEN_FROM, OPEN_TO, Store
 
 SPELL_COLUMNS = ["body", "member_id", "group_name", "valid_from", "valid_to"]
+_SHOWN = 20  # roster problems listed one by one; the rest are counted
 _OPEN_FROM, _OPEN_TO = date.fromisoformat(OPEN_FROM), date.fromisoformat(OPEN_TO)
 
 
@@ -49,20 +50,25 @@ def roster_spells(store: Store, staged, problems: Problems, refused: set) -> pd.
                          _as_dates(frame["valid_to"])]
     backwards = frame["valid_to"] < frame["valid_from"]
     refused.update(frame.loc[backwards, "member_id"])
-    for row in frame[backwards].head(20).itertuples():
+    fix = "swap the two dates, or correct the year"
+    for row in frame[backwards].head(_SHOWN).itertuples():
         add_row_problem(problems, staged, "roster", row.rid, "valid_to", row.valid_to,
-                        f"valid_to {row.valid_to} is before valid_from {row.valid_from}",
-                        "swap the two dates, or correct the year")
+                        f"valid_to {row.valid_to} is before valid_from {row.valid_from}", fix)
+    add_rest(problems, staged, "roster", int(backwards.sum()) - _SHOWN, "row",
+             "rows whose valid_to is before their valid_from", fix)
     frame = frame[~backwards]
     overlaps = find_overlaps(frame)
-    for a, b in overlaps[:20]:
+    fix = "end one membership the day before the next begins"
+    for a, b in overlaps[:_SHOWN]:
         ra, rb = frame.loc[a], frame.loc[b]
         line_a = _where_text(staged, int(ra.rid))
         add_row_problem(problems, staged, "roster", int(rb.rid), "group_name", rb.group_name,
                         f"member {show(rb.member_id)} is in group {show(rb.group_name)} from "
                         f"{rb.valid_from} to {rb.valid_to}, which overlaps group "
                         f"{show(ra.group_name)} from {ra.valid_from} to {ra.valid_to} "
-                        f"({line_a})", "end one membership the day before the next begins")
+                        f"({line_a})", fix)
+    add_rest(problems, staged, "roster", len(overlaps) - _SHOWN, "row",
+             "rows whose membership overlaps another group's", fix)
     return frame
 
 
@@ -172,17 +178,24 @@ def merge(stored: pd.DataFrame, new: pd.DataFrame, *, replace: str | None,
         old = _clip(old, new)
     both = pd.concat([old.assign(_src="stored", k=-1, rid=-1), new.assign(_src="new")],
                      ignore_index=True)
-    for a, b in find_overlaps(both)[:50]:
+    fix = "pass --replace to overwrite the stored membership, or correct the dates"
+    # within one source an overlap is reported by that source's own checks
+    clashes = [(a, b) for a, b in find_overlaps(both) if both.loc[a, "_src"] !=
+               both.loc[b, "_src"]]
+    news = [int((both.loc[b] if both.loc[b, "_src"] == "new" else both.loc[a]).k)
+            for a, b in clashes]
+    for a, b in clashes[:_SHOWN]:
         ra, rb = both.loc[a], both.loc[b]
-        if ra._src == rb._src:
-            continue  # within one source: reported by its own checks
         s, n = (ra, rb) if ra._src == "stored" else (rb, ra)
         add_row_problem(problems, staged_by_k[int(n.k)], "conflict", int(n.rid), "group_name",
                         n.group_name, f"member {show(n.member_id)} is in group "
                         f"{show(n.group_name)} from {n.valid_from} to {n.valid_to} here, but the "
                         f"store has them in {show(s.group_name)} from {s.valid_from} to "
-                        f"{s.valid_to}", "pass --replace to overwrite the stored membership, or "
-                        "correct the dates")
+                        f"{s.valid_to}", fix)
+    for k in dict.fromkeys(news[_SHOWN:]):  # the rest, counted per file
+        unit = staged_unit(staged_by_k[k])
+        add_rest(problems, staged_by_k[k], "conflict", news[_SHOWN:].count(k), unit,
+                 f"{unit}s whose membership overlaps a stored one in another group", fix)
     return coalesce(both[SPELL_COLUMNS])
 
 

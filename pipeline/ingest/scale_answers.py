@@ -63,7 +63,7 @@ def _declarations(store, staged: dict, problems) -> dict[tuple[str, str], tuple[
                 sc = scale_from_cells(scale, low, high, options, where="scale")
             except UsageError as exc:
                 add_row_problem(problems, s, "scale", rid, "scale", scale,
-                                f"ballot {show(ballot)}: {exc.why}", exc.fix)
+                                f"ballot {show(ballot)}: {exc.why}", exc.fix, unit="ballot")
                 continue
             if sc is None:
                 continue
@@ -72,7 +72,7 @@ def _declarations(store, staged: dict, problems) -> dict[tuple[str, str], tuple[
                 add_row_problem(problems, s, "ballot", rid, "scale", sc.spec,
                                 f"ballot {show(ballot)} is declared {show(sc.spec)} here and "
                                 f"{show(seen[0].spec)} in {seen[1].name}",
-                                "give every row of a ballot the same scale")
+                                "give every row of a ballot the same scale", unit="ballot")
     return out
 
 
@@ -117,7 +117,7 @@ def stage_scales(store, staged: dict, *, default: Scale | None = None, replace: 
                 add_row_problem(problems, s, "conflict", rid, "scale", sc.spec,
                                 f"ballot {show(ballot)} is declared {show(sc.spec)} here but "
                                 f"stored as {show(old.spec)}", "pass --replace to re-declare "
-                                "the stored ballot, or correct the declaration")
+                                "the stored ballot, or correct the declaration", unit="ballot")
         elif old is not None and not (replace and default is not None):
             sc = old
         else:

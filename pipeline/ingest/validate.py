@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import json
 from collections import Counter
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 from blocwatch.pipeline.errors import BadInputError
 from blocwatch.pipeline.ingest.codes import ambiguity
@@ -43,8 +43,8 @@ KINDS = {
     "duplicate": "the same vote given twice, differently",
     "ballot": "ballots described two ways",
     "roster": "roster problems",
-    "member": "members without a group",
-    "conflict": "conflicts with stored data",
+    "member": "members without one clear group",
+    "conflict": "conflicts with the store or another file",
     "scale": "answers outside a ballot's scale",
 }
 
@@ -125,22 +125,28 @@ class Problems:
 
     def ordered(self) -> list[Problem]:
         rank = {k: i for i, k in enumerate(KINDS)}
-        return sorted(self.items, key=lambda p: rank.get(p.kind, len(rank)))
+        # within a kind, examples before the counted rest (the rest has no place to name)
+        return sorted(self.items, key=lambda p: (rank.get(p.kind, len(rank)), p.rest))
 
     def first_error(self) -> BadInputError:
         """One error for the whole load: the first problem, or every unknown code at once."""
         ordered = self.ordered()
         first = ordered[0]
-        rest = len(ordered) - 1
+        same = [p for p in ordered[1:] if p.kind == first.kind]
         if first.kind == "code":
-            codes = [p for p in ordered if p.kind == "code"]
-            rest -= len(codes) - 1
-            err = unknown_codes_error(codes, self.code_fix(codes[0].value))
+            err = unknown_codes_error([first, *same], self.code_fix(first.value))
+            same = []  # the message lists every code already
         else:
             err = BadInputError(first.location(), first.why, first.fix)
-        if rest > 0:
-            err.fix += (f"; {rest} more problem{'s' if rest > 1 else ''} found — run "
-                        "'blocwatch ingest --check' on the same files to list them all")
+        if first.count > 1 and first.kind != "code":  # the rows (cells, …) it stands for
+            same.insert(0, replace(first, count=first.count - 1))
+        # Counted as --check counts them: per kind and unit, never added across kinds.
+        others = len({p.kind for p in ordered if p.kind != first.kind})
+        more = ([f"{amounts(same)} more like this"] if same else []) + (
+            [f"{others} other kind{'s' if others > 1 else ''} of problem"] if others else [])
+        if more:
+            err.fix += (f"; also {' and '.join(more)} — run 'blocwatch ingest --check' on the "
+                        "same files to list them all")
             err.args = (err.line(),)
         return err
 
@@ -194,7 +200,8 @@ def unknown_codes_error(codes: list[Problem], fix: str) -> BadInputError:
     parts = [f"{show(code)} ×{n} (first at {loc}" + (f"; refused until mapped: {why})" if (
         why := ambiguity(code)) else ")") for code, (n, loc) in list(merged.items())[:20]]
     if len(merged) > 20:
-        parts.append(f"and {len(merged) - 20} more")
+        left = [p for p in codes if p.value not in list(merged)[:20]]
+        parts.append(f"and {len(merged) - 20} more codes in {amounts(left)}")
     columns = dict.fromkeys(f"{p.file}, column {show(p.column)}" for p in codes)
     what = "; ".join(columns)
     n = len(merged)

@@ -28,8 +28,8 @@ def test_check_counts_rows_of_members_outside_their_spell(run_cli, tmp_path):
                                      "A2,Bo Birch,Right,,"])
     proc = run_cli("ingest", "v.csv", "--members", "roster.csv", "--body", "Fen Board", "--check")
     assert proc.returncode == 65
-    assert _kind_line(proc.stdout, "members without a group") == \
-        "  members without a group: 7 rows"
+    assert _kind_line(proc.stdout, "members without one clear group") == \
+        "  members without one clear group: 7 rows"
     assert "v.csv: 14 rows read; 1 kind of problem" in proc.stdout
     assert "… and more like these: 2 rows" in proc.stdout  # 5 examples + 2 = 7
     assert not (tmp_path / "blocwatch.duckdb").exists()

@@ -37,10 +37,28 @@ def test_problems_are_ordered_by_kind_and_the_first_one_is_raised():
                          column="date", value="x"))
     err = problems.first_error()
     assert isinstance(err, BadInputError) and err.exit_code == 65
-    assert err.line() == ("a.csv:3, column 'date': 'x' is not a date — write YYYY-MM-DD; 1 more "
-                          "problem found — run 'blocwatch ingest --check' on the same files to "
-                          "list them all")
+    assert err.line() == ("a.csv:3, column 'date': 'x' is not a date — write YYYY-MM-DD; also "
+                          "1 other kind of problem — run 'blocwatch ingest --check' on the same "
+                          "files to list them all")
     assert str(err) == err.line()
+
+
+def test_the_first_error_counts_the_rest_of_its_kind_as_check_does():
+    # 3 rows share the first bad date, 2 more dates (1 + 4 rows), 6 rows counted as the rest,
+    # 2 undated ballots: 2 + 5 + 6 = 13 more rows and 2 ballots; conflicts are another kind.
+    problems = Problems()
+    problems.add(Problem("date", "a.csv", "'x' is not a date", "fix", line=3, count=3))
+    problems.add(Problem("date", "a.csv", "'y' is not a date", "fix", line=4))
+    problems.add(Problem("date", "a.csv", "6 more rows", "fix", count=6, rest=True))
+    problems.add(Problem("date", "a.csv", "'z' is not a date", "fix", line=5, count=4))
+    problems.add(Problem("date", "a.csv", "ballot 'b' has no date", "fix", count=2,
+                         unit="ballot"))
+    problems.add(Problem("conflict", "a.csv", "clashes", "fix", line=9, count=7))
+    line = problems.first_error().line()
+    assert line.startswith("a.csv:3: 'x' is not a date — fix; ")  # never the counted rest
+    assert "; also 13 rows, 2 ballots more like this and 1 other kind of problem — " in line
+    report = problems.report()
+    assert "  dates that cannot be used: 14 rows, 2 ballots" in report  # 1 + 13, as above
 
 
 def test_unknown_codes_become_one_message_with_counts_and_first_places():
