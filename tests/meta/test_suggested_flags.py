@@ -66,7 +66,8 @@ def _strings(node: ast.AST) -> list[str]:
 
 def _texts(path: Path) -> list[str]:
     """The text of every error built in ``path`` (calls of ``…Error``, ``…Problem`` and the
-    like), where a suggested flag would be."""
+    like, and ``fix = …`` texts set aside for several of them), where a suggested flag would
+    be."""
     tree = ast.parse(path.read_text(encoding="utf-8"))
     out = []
     for node in ast.walk(tree):
@@ -74,6 +75,9 @@ def _texts(path: Path) -> list[str]:
             name = getattr(node.func, "id", getattr(node.func, "attr", ""))
             if _RAISER.search(name):
                 out += _strings(node)
+        elif isinstance(node, ast.Assign) and any(
+                isinstance(t, ast.Name) and t.id.endswith("fix") for t in node.targets):
+            out += _strings(node.value)
     return [t for t in out if "--" in t]
 
 
