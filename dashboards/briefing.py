@@ -23,7 +23,7 @@ from blocwatch.dashboards.network import network_chart
 from blocwatch.dashboards.periods import period_table
 from blocwatch.dashboards.safe import esc
 from blocwatch.dashboards.tables import ReportTables
-from blocwatch.dashboards.trajectories import SPREAD_COLUMNS, spread_chart
+from blocwatch.dashboards.trajectories import SPREAD_CHARTS, SPREAD_COLUMNS, spread_chart
 from blocwatch.dashboards.trends import change_points, trend_chart
 from blocwatch.dashboards.verdict import MIN_BALLOTS, MIN_MEMBERS, opening
 
@@ -98,9 +98,10 @@ def build_briefing(tables: ReportTables, body: str, *, colours: dict[str, str],
     parts.append(chart_block(c, f"bw-{key}-{c.name}", {
         "period": "Period", "group_a": "Group", "group_b": "Group", "agreement": "Agreement",
         "n_pairs": "Pairs"}))
-    c = spread_chart(t.members, m, colours)
-    charts.append(c)
-    parts.append(chart_block(c, f"bw-{key}-{c.name}", SPREAD_COLUMNS))
+    for score in SPREAD_CHARTS:  # loyalty, then bridging: groups only, never names
+        c = spread_chart(t.members, m, colours, metric=score)
+        charts.append(c)
+        parts.append(chart_block(c, f"bw-{key}-{c.name}", SPREAD_COLUMNS))
     parts.append(_bridges(t, body, n_bridges, bridge, chosen))
     parts.append(counted_html(m, t.members, tables.provenance))
     parts[parts.index("NAV")] = _nav(agenda=bool(agenda_html))

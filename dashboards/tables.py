@@ -27,7 +27,8 @@ SCHEMAS: dict[str, tuple[tuple[str, ...], tuple[str, ...]]] = {
     ),
     "members": (
         ("body", "period", "member_id", "metric", "value"),
-        ("name", "group_name", "note"),
+        ("name", "group_name", "note", "previous_period", "change", "group_before",
+         "switched_on"),
     ),
     "group_agreement": (
         ("body", "period", "group_a", "group_b", "agreement"),
@@ -52,8 +53,8 @@ _SHARED = {"measures"}
 
 _TEXT = {"body", "period", "metric", "member_id", "name", "group_name", "group_a", "group_b",
          "member_a", "member_b", "note", "run_id", "change_points", "label", "description",
-         "formula", "direction", "reference", "subset"}
-_DATES = {"period_start", "period_end"}
+         "formula", "direction", "reference", "subset", "previous_period", "group_before"}
+_DATES = {"period_start", "period_end", "switched_on"}
 
 
 def _normalise(name: str, frame: pd.DataFrame | None) -> pd.DataFrame:
@@ -101,7 +102,10 @@ class ReportTables:
         Unknown metric names are drawn generically with their raw name as label.
     members : DataFrame, optional
         Member-level scores, long form: ``body, period, member_id, name, group_name, metric,
-        value`` (e.g. ``cross_tie_share``, ``participation``, ``delta_q``, ``mds_1``, ``mds_2``).
+        value`` (e.g. ``cross_tie_share``, ``participation``, ``delta_q``, ``mds_1``, ``mds_2``),
+        optionally the members export's trajectory columns ``previous_period, change,
+        group_before, switched_on`` (the date a member joined its present group, where the
+        group differs from the previous period's; moves are marked at that date).
     group_agreement : DataFrame, optional
         ``body, period, group_a, group_b, agreement, n_pairs`` for the group heat map.
     trends : DataFrame, optional

@@ -20,7 +20,8 @@ Period specs (``--period``):
     named ``2001-01..2002-12``.
 
 Graph rule specs (``--rule``): ``weighted`` (default), ``threshold:X`` (0 < X ≤ 1),
-``equal-likelihood``; what each draws is in :mod:`blocwatch.pipeline.build.graphs`.
+``equal-likelihood``, ``backbone:ALPHA`` (0 < ALPHA < 1); what each draws is in
+:mod:`blocwatch.pipeline.build.graphs`.
 """
 
 from __future__ import annotations
@@ -60,7 +61,7 @@ EXPORT_FORMATS = ("csv", "parquet", "json")
 METRIC_LIST_FORMATS = ("text", "csv", "json")
 LAYOUTS = ("long", "wide")
 SCHEDULE_EVERY = ("hourly", "daily", "weekly", "monthly", "yearly")
-RULE_KINDS = ("weighted", "threshold", "equal-likelihood")
+RULE_KINDS = ("weighted", "threshold", "equal-likelihood", "backbone")
 
 
 @dataclass(frozen=True)
@@ -133,28 +134,32 @@ class Rule:
 
     @property
     def spec(self) -> str:
-        return f"threshold:{self.level:g}" if self.kind == "threshold" else self.kind
+        return f"{self.kind}:{self.level:g}" if self.level is not None else self.kind
 
 
 def parse_rule(spec: str) -> Rule:
-    """Parse a rule spec, e.g. ``"threshold:0.7"``.
+    """Parse a rule spec, e.g. ``"threshold:0.7"`` or ``"backbone:0.2"``.
 
-    >>> parse_rule("threshold:0.7")
-    Rule(kind='threshold', level=0.7)
+    >>> parse_rule("threshold:0.7"), parse_rule("backbone:0.2").spec
+    (Rule(kind='threshold', level=0.7), 'backbone:0.2')
     """
     kind, _, rest = spec.partition(":")
     if kind in ("weighted", "equal-likelihood") and not rest:
         return Rule(kind)
-    if kind == "threshold":
+    if kind in ("threshold", "backbone"):
         try:
             level = float(rest)
         except ValueError:
             level = float("nan")
-        if not 0 < level <= 1:
+        if kind == "threshold" and not 0 < level <= 1:
             raise UsageError(f"rule {spec!r}", f"threshold {rest!r} is not a number in (0, 1]",
                              "write e.g. --rule threshold:0.7")
+        if kind == "backbone" and not 0 < level < 1:
+            raise UsageError(f"rule {spec!r}", f"significance {rest!r} is not a number in "
+                             "(0, 1)", "write e.g. --rule backbone:0.2")
         return Rule(kind, level)
-    raise UsageError(f"rule {spec!r}", "is not one of weighted, threshold:X, equal-likelihood",
+    raise UsageError(f"rule {spec!r}", "is not one of weighted, threshold:X, equal-likelihood, "
+                     "backbone:ALPHA",
                      "e.g. --rule weighted")
 
 

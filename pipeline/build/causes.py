@@ -47,6 +47,10 @@ def empty_cause(n_ballots_loaded: int, inp: PeriodInput, n_ballots_kept: int, op
         if rule.kind == "threshold":
             return (f"no pair agreed on at least {rule.level:g} of its shared ballots "
                     f"(--rule {opts.rule}): lower the threshold")
+        if rule.kind == "backbone":
+            return (f"the disparity filter kept no pair at significance {rule.level:g} "
+                    f"(--rule {opts.rule}): agreement is spread too evenly over each member's "
+                    "partners; raise ALPHA or use --rule equal-likelihood")
         return ("the equal-likelihood rule found no agreement level that separates "
                 "same-group from cross-group pairs, so the edge set is empty: "
                 "--rule threshold:X sets the level directly")

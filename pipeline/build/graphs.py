@@ -11,6 +11,14 @@ Rule specs (``--rule``, parsed by :func:`blocwatch.pipeline.options.parse_rule`)
 ``equal-likelihood``
     Andris et al. (2015): an edge where agreement lies above the level at which a pair is as
     likely to be a same-group pair as a cross-group pair; see :func:`equal_likelihood_threshold`.
+``backbone:ALPHA``
+    the disparity filter of Serrano, Boguñá & Vespignani (2009): an edge where the pair's
+    agreement is a larger share of one member's total agreement than chance gives at
+    significance ALPHA (:func:`blocwatch.pipeline.build.backbone.disparity_backbone`), weighted
+    by its agreement. A local rule: each member keeps its few outstanding partners.
+
+The network pictures draw a period's edge set (the strongest first, up to the stored budget),
+so what a picture shows is what the edge-count measures counted.
 """
 
 from __future__ import annotations
@@ -20,6 +28,7 @@ from dataclasses import dataclass
 import networkx as nx
 import numpy as np
 
+from blocwatch.pipeline.build.backbone import disparity_backbone
 from blocwatch.pipeline.options import Rule
 
 
@@ -81,6 +90,9 @@ def build_graph(agreement: np.ndarray, labels: np.ndarray, rule: Rule) -> Period
     if rule.kind == "threshold":
         threshold = float(rule.level)
         edges = has_value & (a >= threshold)
+    elif rule.kind == "backbone":
+        threshold = float("nan")  # a local rule: no single agreement level
+        edges = has_value & disparity_backbone(np.where(has_value, a, 0.0), float(rule.level))
     else:
         threshold = equal_likelihood_threshold(agreement, labels)
         edges = has_value & (a > threshold) if np.isfinite(threshold) \

@@ -147,7 +147,7 @@ def build_flags(func):
         click.option("--period", default=DEFAULT_PERIOD, show_default=True,
                      help="Period spec: year, year:MM, terms:FILE, rolling:LEN:STEP."),
         click.option("--rule", default=DEFAULT_RULE, show_default=True,
-                     help="Graph rule: weighted, threshold:X, equal-likelihood."),
+                     help="Graph rule: weighted, threshold:X, equal-likelihood, backbone:ALPHA."),
         click.option("--seed", type=int, default=DEFAULT_SEED, show_default=True,
                      help="Seed for every random step (Leiden, CV, bootstrap, nulls)."),
         click.option("--bootstrap", type=click.IntRange(min=0), default=DEFAULT_BOOTSTRAP,

@@ -16,7 +16,7 @@ from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.options import EXPORT_FORMATS, EXPORT_TABLES
 from blocwatch.pipeline.safety import neutralise_frame
 from blocwatch.pipeline.store.bodies import require_body, require_results
-from blocwatch.pipeline.store.database import Store
+from blocwatch.pipeline.store.database import OPEN_FROM, Store
 
 # Column order of each export, a contract with users' scripts: add columns at the end, never
 # rename (README, "Commands").
@@ -36,14 +36,30 @@ EXPORT_QUERIES = {
         JOIN periods p USING (body, period)
         WHERE (? IS NULL OR pm.body = ?)
         ORDER BY pm.body, p.period_start, pm.subset <> 'all', pm.subset, pm.metric""",
-    "members": """
-        SELECT mm.body, mm.period, p.period_start, p.period_end, mm.member_id,
-               coalesce(m.name, mm.member_id) AS name, mm.group_name, mm.metric, mm.value,
-               mm.note, mm.run_id
-        FROM member_metrics mm JOIN periods p USING (body, period)
-        LEFT JOIN members m ON m.body = mm.body AND m.member_id = mm.member_id
-        WHERE (? IS NULL OR mm.body = ?)
-        ORDER BY mm.body, p.period_start, mm.member_id, mm.metric""",
+    # Trajectory columns (the last four): the member's previous period with a row for the
+    # same metric, the change of value since then, the group then, and — when the group
+    # differs — the date the member's spell in the present group began (the switch date).
+    "members": f"""
+        WITH t AS (
+            SELECT mm.body, mm.period, p.period_start, p.period_end, mm.member_id,
+                   coalesce(m.name, mm.member_id) AS name, mm.group_name, mm.metric, mm.value,
+                   mm.note, mm.run_id,
+                   lag(mm.period) OVER w AS previous_period,
+                   mm.value - lag(mm.value) OVER w AS change,
+                   lag(mm.group_name) OVER w AS group_before
+            FROM member_metrics mm JOIN periods p USING (body, period)
+            LEFT JOIN members m ON m.body = mm.body AND m.member_id = mm.member_id
+            WHERE (? IS NULL OR mm.body = ?)
+            WINDOW w AS (PARTITION BY mm.body, mm.member_id, mm.metric
+                         ORDER BY p.period_start, p.period_end, mm.period))
+        SELECT t.*,
+               CASE WHEN t.group_before <> t.group_name THEN
+                   (SELECT max(s.valid_from) FROM memberships s
+                    WHERE s.body = t.body AND s.member_id = t.member_id
+                      AND s.group_name = t.group_name AND s.valid_from <= t.period_end
+                      AND s.valid_from > DATE '{OPEN_FROM}')  -- an open start is no date
+               END AS switched_on
+        FROM t ORDER BY t.body, t.period_start, t.member_id, t.metric""",
     "groups": """
         SELECT g.body, g.period, p.period_start, p.period_end, g.group_a, g.group_b,
                g.agreement, g.n_pairs, g.alpha, g.run_id, g.low, g.high

@@ -58,7 +58,22 @@ def test_rules():
     assert nxg["a"]["c"]["weight"] == 0.2 and not nxg.has_edge("b", "c")
 
 
-@pytest.mark.parametrize("spec", ["threshold:2", "threshold:x", "best", "weighted:1"])
+def test_backbone_rule_keeps_the_disparity_backbone():
+    # The hand-worked graph of tests/unit/metrics/test_backbone.py as agreement (scaled by 1/10
+    # to lie in [0, 1]; the filter only reads shares, so the scale cannot matter): at 0.5 the
+    # backbone is 0–1 and 1–2. A missing pair (NaN) is never an edge.
+    a = np.full((4, 4), np.nan)
+    for i, j, v in [(0, 1, .6), (0, 2, .1), (0, 3, .1), (1, 2, .2)]:
+        a[i, j] = a[j, i] = v
+    np.fill_diagonal(a, 1)
+    g = build_graph(a, np.array([0, 0, 1, 1]), parse_rule("backbone:0.5"))
+    assert {tuple(p) for p in np.argwhere(np.triu(g.edges))} == {(0, 1), (1, 2)}
+    assert g.weights[0, 1] == 0.6 and g.weights[0, 2] == 0 and np.isnan(g.threshold)
+    assert parse_rule("backbone:0.5").spec == "backbone:0.5"
+
+
+@pytest.mark.parametrize("spec", ["threshold:2", "threshold:x", "best", "weighted:1",
+                                  "backbone", "backbone:1", "backbone:0", "backbone:x"])
 def test_bad_rules_raise(spec):
     with pytest.raises(UsageError, match="rule"):
         parse_rule(spec)
