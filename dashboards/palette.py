@@ -1,10 +1,10 @@
 """Colours and the chart template: blocwatch's own neutral, colour-blind-safe look.
 
 The hues are the eight of Okabe & Ito's colour-universal-design set (chosen to stay distinct
-under the common colour-vision deficiencies), put in an order of our own, with the pale yellow
-swapped for a dark grey-brown so lines stay readable on white paper. Groups get colours in
-sorted-name order, so one group keeps its colour on every page of a report; users override any
-group with ``ReportTables.colours``.
+under the common colour-vision deficiencies), with the pale yellow swapped for a dark grey-brown
+so lines stay readable on white paper, put in an order of our own: most distinct first. Groups
+get colours in sorted-name order, so one group keeps its colour on every page of a report;
+users override any group with ``ReportTables.colours``.
 """
 
 from __future__ import annotations
@@ -15,15 +15,20 @@ import plotly.graph_objects as go
 
 from blocwatch.dashboards.errors import ReportInputError
 
+# Order: the first colours are the most distinct, so a body with few groups gets the clearest
+# contrast (two oranges only meet from the seventh group on). Each prefix keeps the largest
+# smallest difference any order starting with blue can give, judged by the worse of normal,
+# deuteranomalous and protanomalous vision (CAM02-UCS colour difference;
+# tests/unit/dashboards/test_palette.py checks it with the colorspacious package).
 PALETTE: tuple[str, ...] = (
     "#0072B2",  # blue
-    "#D55E00",  # vermilion
-    "#009E73",  # bluish green
-    "#CC79A7",  # reddish purple
     "#E69F00",  # orange
-    "#56B4E9",  # sky blue
-    "#6B5B4B",  # grey-brown (in place of yellow, which vanishes on white)
     "#333333",  # near black
+    "#56B4E9",  # sky blue
+    "#009E73",  # bluish green
+    "#6B5B4B",  # grey-brown (in place of yellow, which vanishes on white)
+    "#D55E00",  # vermilion
+    "#CC79A7",  # reddish purple
 )
 NO_GROUP = "#9A9A9A"  # members without a recorded group
 INK = "#222222"

@@ -60,3 +60,42 @@ def test_bad_colours_are_refused(bad):
 def test_with_alpha():
     assert with_alpha("#0072B2", 0.5) == "rgba(0,114,178,0.5)"  # 0x72 = 114, 0xB2 = 178
     assert with_alpha("teal", 0.5) == "teal"
+
+
+def _cam02_differences():
+    """Pairwise colour difference (CAM02-UCS ΔE') of the palette, the worse of normal,
+    deuteranomalous and protanomalous (severity 100, Machado et al. 2009) vision, computed by
+    the colorspacious package (the reference library)."""
+    from colorspacious import cspace_convert, deltaE
+
+    rgb = np.array([[int(c[i:i + 2], 16) / 255 for i in (1, 3, 5)] for c in PALETTE])
+    views = [rgb] + [np.clip(cspace_convert(rgb, {"name": "sRGB1+CVD", "cvd_type": kind,
+                                                  "severity": 100}, "sRGB1"), 0, 1)
+                     for kind in ("deuteranomaly", "protanomaly")]
+    n = len(PALETTE)
+    d = np.full((n, n), np.inf)
+    for v in views:
+        for i, j in itertools.combinations(range(n), 2):
+            d[i, j] = d[j, i] = min(d[i, j], deltaE(v[i], v[j], input_space="sRGB1"))
+    return d
+
+
+def _prefix_minima(d, order):
+    return [min(d[a, b] for a, b in itertools.combinations(order[:k], 2))
+            for k in range(2, len(order) + 1)]
+
+
+def test_first_colours_are_the_most_distinct():
+    # Groups take colours in order, so the first k colours must be as far apart as any order
+    # starting from the same first colour can make them: the palette's prefix minima are the
+    # lexicographically largest over all 5,040 orders (exhaustive search).
+    d = _cam02_differences()
+    ours = _prefix_minima(d, list(range(len(PALETTE))))
+    best = max(_prefix_minima(d, [0, *rest])
+               for rest in itertools.permutations(range(1, len(PALETTE))))
+    assert ours == best
+    # The two oranges (vermilion, orange) are the palette's closest pair but one; they do not
+    # meet before the seventh group.
+    oranges = [PALETTE.index("#D55E00"), PALETTE.index("#E69F00")]
+    assert max(oranges) >= 6
+    assert ours[1] > 30  # three groups: clearly apart (ΔE' ≈ 2 is just noticeable, from memory)
