@@ -29,12 +29,10 @@ from pathlib import Path
 from typing import Any
 
 from blocwatch.pipeline.errors import UsageError
-from blocwatch.pipeline.options import LAYOUTS
-from blocwatch.pipeline.store.database import DEFAULT_STORE
+from blocwatch.pipeline.options import DEFAULT_OUTPUT, DEFAULT_STORE, LAYOUTS
 
 CONFIG_NAME = "blocwatch.toml"
 CONFIG_ENV = "BLOCWATCH_CONFIG"
-DEFAULT_OUTPUT = "blocwatch-report"
 
 TOP_KEYS = ("store", "output", "build", "colours", "bodies")
 BODY_KEYS = {  # key -> (accepted TOML types, description for the message)
@@ -77,9 +75,6 @@ class Config:
     @property
     def bodies(self) -> dict[str, dict]:
         return self.data.get("bodies", {})
-
-
-_active: Config | None = None
 
 
 def key_error(key: str, why: str, allowed: str, cfg: Path | None) -> UsageError:
@@ -170,49 +165,39 @@ def _check_body(name: str, body: Any, path: Path | None) -> None:
                              BODY_KEYS[key][1], path)
 
 
-def activate(path: str | Path | None = None, *, sections: dict | None = None,
-             empty: bool = False) -> Config:
-    """Load and check the config in force and make it the one the helpers below read.
+def read_config(path: str | Path | None = None, *, sections: dict | None = None,
+                empty: bool = False) -> Config:
+    """The config in force (see :func:`find_config`), loaded and checked.
 
+    Nothing is kept between calls: the CLI reads it once per invocation and passes it on.
     ``empty``: use no file at all (the demo builds its own project and ignores the user's).
     """
-    global _active
     if empty:
-        _active = Config(None, {})
-        return _active
+        return Config(None, {})
     file = find_config(path)
     data = load_config(file) if file else {}
-    _active = Config(file, check_config(data, file, sections=sections))
-    return _active
+    return Config(file, check_config(data, file, sections=sections))
 
 
-def active_config() -> Config:
-    """The activated config (loading ``./blocwatch.toml`` on first use if none was)."""
-    return _active if _active is not None else activate()
-
-
-def default_store_path() -> Path:
-    """The store the config names (``store = "…"``, relative to its folder), else
+def default_store_path(cfg: Config) -> Path:
+    """The store ``cfg`` names (``store = "…"``, relative to its folder), else
     ``./blocwatch.duckdb``."""
-    cfg = active_config()
     store = cfg.data.get("store")
     return cfg.resolve(store) if store else Path(DEFAULT_STORE)
 
 
-def default_output() -> Path:
-    cfg = active_config()
+def default_output(cfg: Config) -> Path:
     out = cfg.data.get("output")
     return cfg.resolve(out) if out else Path(DEFAULT_OUTPUT)
 
 
-def group_colours() -> dict[str, str]:
+def group_colours(cfg: Config) -> dict[str, str]:
     """The ``[colours]`` table: group name -> colour overrides for the report."""
-    return {str(k): str(v).strip() for k, v in active_config().section("colours").items()}
+    return {str(k): str(v).strip() for k, v in cfg.section("colours").items()}
 
 
-def body_ingest_options(name: str, cfg: Config | None = None) -> dict:
+def body_ingest_options(name: str, cfg: Config) -> dict:
     """Keyword arguments for ``ingest_files`` from ``[bodies."name"]`` (paths resolved)."""
-    cfg = cfg or active_config()
     body = cfg.bodies.get(name, {})
     out: dict[str, Any] = {}
     for key in ("members", "ballots", "layout", "columns", "codes", "scale", "date_format",
@@ -225,9 +210,8 @@ def body_ingest_options(name: str, cfg: Config | None = None) -> dict:
     return out
 
 
-def body_sources(name: str, cfg: Config | None = None) -> list[Path]:
+def body_sources(name: str, cfg: Config) -> list[Path]:
     """The files the body's ``sources`` globs match now, sorted and without repeats."""
-    cfg = cfg or active_config()
     globs = cfg.bodies.get(name, {}).get("sources", [])
     globs = [globs] if isinstance(globs, str) else globs
     found: dict[Path, None] = {}

@@ -34,6 +34,8 @@ from pathlib import Path
 
 from blocwatch.pipeline.errors import BadInputError, UsageError
 
+DEFAULT_STORE = "blocwatch.duckdb"
+DEFAULT_OUTPUT = "blocwatch-report"
 DEFAULT_PERIOD = "year"
 DEFAULT_RULE = "weighted"
 DEFAULT_SEED = 20240601
@@ -52,6 +54,10 @@ DEFAULT_MIN_TOPIC_BALLOTS = 10
 # body) or the name of one period.
 DEFAULT_TOPIC_REFERENCE = "pooled"
 DEFAULT_AGREEMENT = "match"
+# Member pairs a build stores per period for the network pictures (the strongest by agreement):
+# the picture draws at most 3,000, so 5,000 leaves room, while a 650-seat chamber's 210,925
+# pairs per period stay out of the store.
+EDGE_BUDGET = 5000
 
 # Choice lists of the command line (click.Choice reads them from here).
 AGREEMENT_MEASURES = ("match", "kappa", "kappa-quadratic")

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import click
 
-from blocwatch.pipeline.cli.main import handle_errors, resolve_store, store_option
+from blocwatch.pipeline.cli.common import current_config, handle_errors, resolve_store, store_option
 
 
 @click.command("remove-body")
@@ -23,7 +23,6 @@ def remove_body(name, store_path, yes):
     Runs stay in the run log. A body still configured in blocwatch.toml is loaded again by
     the next rebuild: remove its [bodies] table too.
     """
-    from blocwatch.pipeline.config import active_config
     from blocwatch.pipeline.ops.lock import locked_store
     from blocwatch.pipeline.store.bodies import body_rows
     from blocwatch.pipeline.store.bodies import remove_body as drop
@@ -36,6 +35,9 @@ def remove_body(name, store_path, yes):
         click.echo(f"nothing removed — run 'blocwatch remove-body \"{name}\" --yes' to remove it")
         return
     click.echo(f"removed body {name!r}: {rows or 'no rows besides its name'}")
-    if name in active_config().bodies:
+    if name in current_config().bodies:
         click.echo(f"note: blocwatch.toml still has [bodies.\"{name}\"]; the next rebuild loads "
                    "its files again — delete that table too", err=True)
+
+
+COMMANDS = (remove_body,)

@@ -16,9 +16,9 @@ import click
 from blocwatch.pipeline.config import (
     UNCONFIGURED,
     Config,
-    activate,
     default_output,
     key_error,
+    read_config,
 )
 from blocwatch.pipeline.errors import BlocwatchError
 
@@ -131,17 +131,17 @@ def _single_body(cfg: Config, params: dict) -> dict[str, tuple[str, object]]:
     return {k: v for k, v in out.items() if k in params}
 
 
-def ingest_settings(ctx: click.Context, body: str | None, flags: dict) -> dict:
+def ingest_settings(ctx: click.Context, cfg: Config, body: str | None, flags: dict) -> dict:
     """``ingest_files`` keyword arguments: the ingest ``flags``, with the ``[bodies."body"]``
     settings for those given nowhere else, and ``--column`` pairs parsed."""
     from blocwatch.pipeline.ingest.readers import parse_column_options
 
-    out = {**flags, **body_table_defaults(ctx, body)}
+    out = {**flags, **body_table_defaults(ctx, cfg, body)}
     out["columns"] = parse_column_options(out.get("columns"))
     return out
 
 
-def body_table_defaults(ctx: click.Context, body: str | None) -> dict:
+def body_table_defaults(ctx: click.Context, cfg: Config, body: str | None) -> dict:
     """The ``[bodies."body"]`` settings for the ingest flags that were given nowhere else.
 
     The default map can only carry what a flag accepts, so an inline ``codes = { Ja = "yes" }``
@@ -150,9 +150,8 @@ def body_table_defaults(ctx: click.Context, body: str | None) -> dict:
     """
     from click.core import ParameterSource
 
-    from blocwatch.pipeline.config import active_config, body_ingest_options
+    from blocwatch.pipeline.config import body_ingest_options
 
-    cfg = active_config()
     if body is None or body not in cfg.bodies:
         return {}
     out = {}
@@ -193,18 +192,18 @@ def default_map(cfg: Config, group: click.Group) -> dict[str, dict]:
         converted = {params[key].name: _convert(cfg, section, key, params[key], value)
                      for key, (section, value) in values.items()}
         if name in OUTPUT_COMMANDS and "output" in cfg.data:
-            converted["out"] = str(default_output())
+            converted["out"] = str(default_output(cfg))
         if converted:
             out[name] = converted
     return out
 
 
 def apply_config(ctx: click.Context, path: str | None) -> Config:
-    """Activate the config in force and give the group its ``default_map``."""
+    """Read the config in force, give the group its ``default_map`` and return the config."""
     if ctx.invoked_subcommand in UNCONFIGURED:
-        return activate(empty=True)
+        return read_config(empty=True)
     group = ctx.command
     sections = flag_sections(group) if isinstance(group, click.Group) else {}
-    cfg = activate(path, sections=sections)
+    cfg = read_config(path, sections=sections)
     ctx.default_map = default_map(cfg, group)
     return cfg

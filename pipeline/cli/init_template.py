@@ -13,10 +13,10 @@ from pathlib import Path
 import click
 
 from blocwatch.pipeline.cli.flags import BUILD_SECTION, flag_sections
-from blocwatch.pipeline.config import CONFIG_NAME, DEFAULT_OUTPUT
+from blocwatch.pipeline.config import CONFIG_NAME
 from blocwatch.pipeline.errors import UsageError
+from blocwatch.pipeline.options import DEFAULT_OUTPUT, DEFAULT_STORE
 from blocwatch.pipeline.safety import check_name
-from blocwatch.pipeline.store.database import DEFAULT_STORE
 
 # Sections written out in full (other commands' flags are mentioned, not listed).
 WRITTEN_SECTIONS = (BUILD_SECTION, "report", "schedule")

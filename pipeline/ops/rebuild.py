@@ -31,7 +31,7 @@ from pathlib import Path
 
 from blocwatch.pipeline.build.builder import BuildReport, build
 from blocwatch.pipeline.build.planner import Stale, stale_periods
-from blocwatch.pipeline.config import Config, active_config, body_ingest_options, body_sources
+from blocwatch.pipeline.config import Config, body_ingest_options, body_sources, read_config
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.ingest.sniff import load_key
 from blocwatch.pipeline.ops.lock import store_lock
@@ -192,7 +192,7 @@ def rebuild(store_path: str | Path, *, options: BuildOptions | None = None,
     store's newest results, or with ``full``.
     """
     opts = options or BuildOptions()
-    cfg = config or active_config()
+    cfg = config or read_config()
     if body is not None and cfg.bodies and body not in cfg.bodies:
         near = close_matches(body, list(cfg.bodies))
         hint = f"did you mean {near[0]!r}? " if near else ""

@@ -15,7 +15,7 @@ from dataclasses import asdict, dataclass, field
 from pathlib import Path
 
 from blocwatch.pipeline.build.planner import stale_periods
-from blocwatch.pipeline.config import Config, active_config
+from blocwatch.pipeline.config import Config, read_config
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.ops.lock import describe, lock_holder
 from blocwatch.pipeline.ops.readers import reading_store, wait_for_store
@@ -121,7 +121,7 @@ def status(store_path: str | Path, *, options: BuildOptions | None = None,
     :attr:`StatusReport.settings`.
     """
     opts = options or BuildOptions()
-    cfg = config or active_config()
+    cfg = config or read_config()
     report = StatusReport(str(store_path), Path(store_path).exists())
     if wait is not None and report.exists:
         wait_for_store(store_path, wait)

@@ -21,9 +21,9 @@ import duckdb
 import pandas as pd
 
 from blocwatch.pipeline.errors import EXIT_LOCKED, BadInputError, StoreError
+from blocwatch.pipeline.options import DEFAULT_STORE
 
 SCHEMA_VERSION = 2
-DEFAULT_STORE = "blocwatch.duckdb"
 
 # Sentinels for open-ended membership dates (primary keys cannot hold NULL).
 OPEN_FROM = "1800-01-01"

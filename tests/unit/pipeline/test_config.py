@@ -10,7 +10,7 @@ from click.testing import CliRunner
 
 from blocwatch.pipeline.cli.flags import default_map, flag_key, flag_sections
 from blocwatch.pipeline.cli.main import cli
-from blocwatch.pipeline.config import activate, body_sources
+from blocwatch.pipeline.config import body_sources, read_config
 from blocwatch.pipeline.errors import UsageError
 
 
@@ -41,7 +41,7 @@ def test_init_writes_every_build_default(tmp_path):
     assert data["bodies"]["Test Chamber"]["sources"] == ["data/votes*.csv"]
     assert (tmp_path / "proj" / "data").is_dir()
     # and the file it wrote is accepted as it is
-    cfg = activate(tmp_path / "proj" / "blocwatch.toml", sections=flag_sections(cli))
+    cfg = read_config(tmp_path / "proj" / "blocwatch.toml", sections=flag_sections(cli))
     assert default_map(cfg, cli)["build"]["bootstrap"] == build["bootstrap"]
 
 
@@ -97,7 +97,7 @@ def test_invalid_toml_is_a_usage_error(tmp_path):
 def test_flags_come_from_config_and_command_line_wins(tmp_path):
     cfg_text = ('[build]\nperiod = "rolling:24m:12m"\nbootstrap = 7\nkeep_unanimous = true\n'
                 '[export]\nformat = "json"\n')
-    cfg = activate(write(tmp_path, cfg_text), sections=flag_sections(cli))
+    cfg = read_config(write(tmp_path, cfg_text), sections=flag_sections(cli))
     dm = default_map(cfg, cli)
     # [build] feeds build and the commands that share its flags
     for command in ("build", "rebuild", "status"):
@@ -126,7 +126,7 @@ def test_store_and_paths_are_relative_to_the_config_file(tmp_path):
     result = run("--config", str(cfg_path), "status", cwd=elsewhere)
     assert result.exit_code == 0, result.output
     assert f"store: {proj / 'db' / 's.duckdb'}" in result.output
-    files = body_sources("Test Chamber", activate(cfg_path))
+    files = body_sources("Test Chamber", read_config(cfg_path))
     assert files == [proj / "data" / "votes-1.csv", proj / "data" / "votes-2.csv"]
     # the environment variable names the config too
     result = run("status", cwd=elsewhere, env={"BLOCWATCH_CONFIG": str(cfg_path)})
@@ -134,7 +134,7 @@ def test_store_and_paths_are_relative_to_the_config_file(tmp_path):
 
 
 def test_single_body_gives_ingest_its_defaults(tmp_path):
-    cfg = activate(write(tmp_path, '[bodies."Test Chamber"]\nsources = "v.csv"\n'
+    cfg = read_config(write(tmp_path, '[bodies."Test Chamber"]\nsources = "v.csv"\n'
                                    'members = "r.csv"\ncolumns = { member = "MP" }\n'),
                    sections=flag_sections(cli))
     dm = default_map(cfg, cli)["ingest"]
@@ -150,7 +150,7 @@ def test_missing_named_config_is_an_error(tmp_path):
 
 def test_library_check_raises_usage_error(tmp_path):
     with pytest.raises(UsageError, match="bodies.A.replace"):
-        activate(write(tmp_path, '[bodies.A]\nsources = "x"\nreplace = "yes"\n'))
+        read_config(write(tmp_path, '[bodies.A]\nsources = "x"\nreplace = "yes"\n'))
 
 
 def test_demo_ignores_the_project_config(tmp_path):

@@ -1,0 +1,137 @@
+"""Commands that compute: ``build``, ``rebuild`` and ``status`` (what is stale)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from blocwatch.pipeline import options
+from blocwatch.pipeline.cli.common import (
+    build_flags,
+    current_config,
+    handle_errors,
+    progress,
+    resolve_store,
+    source,
+    store_option,
+    wait_option,
+)
+
+
+@click.command()
+@store_option
+@click.option("--body", default=None, help="Only this body (default: every body in the store).")
+@build_flags
+@click.option("--jobs", type=click.IntRange(min=1), default=1, show_default=True,
+              help="Periods computed at once: 1 runs in this process, N > 1 uses N local "
+                   "worker processes (with --executor dask: workers of the local cluster).")
+@click.option("--executor", type=click.Choice(options.EXECUTORS), default="local",
+              show_default=True, help="Where periods are computed (dask needs blocwatch[dask]).")
+@click.option("--scheduler", default=None, metavar="ADDRESS",
+              help="Dask scheduler, e.g. tcp://10.0.0.5:8786 (default with --executor dask: a "
+                   "local cluster of --jobs workers).")
+@click.option("--partitions", type=click.Path(file_okay=False), default=None, metavar="DIR",
+              help="Read each period from DIR/body=…/period=…/votes.parquet (workers read it "
+                   "directly; results go to DIR/_results) instead of the store's ballots.")
+@click.pass_context
+@handle_errors
+def build(ctx, store_path, body, jobs, executor, scheduler, partitions, **flags):
+    """Compute every period's agreement graph and metrics and store them."""
+    from blocwatch.pipeline.build.builder import build as run_build
+    from blocwatch.pipeline.build.executors import ExecutorSpec
+    from blocwatch.pipeline.build.partitions import build_partitions
+    from blocwatch.pipeline.ops.lock import locked_store
+
+    opts = options.build_options(**flags)
+    where = ExecutorSpec(executor, jobs=jobs, scheduler=scheduler)
+    with locked_store(resolve_store(store_path), "build") as store:
+        if partitions:
+            report = build_partitions(store, partitions, Path(partitions) / "_results",
+                                      body=body, options=opts, executor=where,
+                                      progress=progress(ctx, "build"))
+        else:
+            report = run_build(store, body=body, options=opts,
+                               progress=progress(ctx, "build"), executor=where)
+    click.echo(f"run {report.run_id}: {len(report.periods)} period(s) computed")
+    say_removed(report, opts.period)
+
+
+@click.command()
+@store_option
+@click.option("--body", default=None, help="Only this configured body (default: all).")
+@click.option("--full", is_flag=True, default=False,
+              help="Recompute every period and rewrite the report.")
+@click.option("--out", type=click.Path(file_okay=False), default=None,
+              help="Report folder (default: the config's output, else ./blocwatch-report).")
+@click.option("--report/--no-report", "with_report", default=True, show_default=True,
+              help="Rewrite the report after recomputing.")
+@click.option("--images/--no-images", default=False, show_default=True,
+              help="Also write PNG and SVG with the report (needs Chromium or Chrome).")
+@build_flags
+@click.pass_context
+@handle_errors
+def rebuild(ctx, store_path, body, full, out, with_report, images, **flags):
+    """Load new or changed source files, recompute the stale periods, rewrite the report.
+
+    Files come from the [bodies] tables of blocwatch.toml. With nothing new it writes nothing
+    and says so. Exits 75 when another run holds the store's lock.
+    """
+    from blocwatch.pipeline.config import default_output, group_colours
+    from blocwatch.pipeline.ops.rebuild import rebuild as run_rebuild
+    from blocwatch.pipeline.report.write import report_writer
+
+    opts = options.build_options(**flags)
+    cfg = current_config()
+    store = resolve_store(store_path)
+    out_dir = Path(out) if out else default_output(cfg)
+    write = report_writer(store, body=body, images=images, colours=group_colours(cfg)) \
+        if with_report else None
+    result = run_rebuild(store, options=opts, config=cfg, body=body, full=full,
+                         out=out_dir if with_report else None, write_outputs=write,
+                         progress=progress(ctx, "rebuild"))
+    for line in result.load_lines():
+        click.echo(line)
+    for note in result.notes:
+        click.echo(f"note: {note}", err=True)
+    if result.build is not None:
+        say_removed(result.build, opts.period)
+    click.echo(result.summary())
+    if result.outputs:
+        click.echo(f"wrote {len(result.outputs)} file(s) to {out_dir}")
+
+
+@click.command()
+@store_option
+@click.option("--body", default=None, help="Only this body.")
+@click.option("--json", "as_json", is_flag=True, default=False, help="Print the status as JSON.")
+@build_flags
+@wait_option
+@click.pass_context
+@handle_errors
+def status(ctx, store_path, body, as_json, wait, **flags):
+    """Bodies, periods, last ingest per body, stale periods, and the last run's outcome.
+
+    Stale is judged against the build flags (from blocwatch.toml unless given); settings that
+    differ from the last build's are named with both values.
+    """
+    from blocwatch.pipeline.ops.status import status as store_status
+
+    opts = options.build_options(**flags)
+    result = store_status(resolve_store(store_path), options=opts, body=body, wait=wait,
+                          config=current_config(),
+                          sources={name: source(ctx, name) for name in flags})
+    click.echo(result.to_json() if as_json else "\n".join(result.lines()))
+
+
+def say_removed(report, period: str) -> None:
+    """Stored results a build dropped because its period spec no longer produces them."""
+    if report.removed:
+        names = ", ".join(f"{b} {p}" for b, p in report.removed[:6])
+        more = f" and {len(report.removed) - 6} more" if len(report.removed) > 6 else ""
+        click.echo(f"note: removed the stored results of {len(report.removed)} period(s) that "
+                   f"--period {period} does not produce ({names}{more}); the store keeps one "
+                   f"period spec's results", err=True)
+
+
+COMMANDS = (build, rebuild, status)

@@ -1,0 +1,44 @@
+"""Writing a report from a store: the stored result frames handed to the dashboards.
+
+Reads only what a build stored (:mod:`blocwatch.pipeline.report.frames`); nothing is
+recomputed, so every picture matches the figures beside it.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from pathlib import Path
+
+from blocwatch.pipeline.ops.readers import reading_store
+from blocwatch.pipeline.report.frames import report_frames
+from blocwatch.pipeline.store.database import Store
+
+
+def write_report(store_path: str | Path, out: str | Path, *, body: str | None = None,
+                 periods: list[str] | None = None, images: bool = False,
+                 colours: dict[str, str] | None = None,
+                 wait: float | None = None) -> list[Path]:
+    """Write the pages, embeddable pieces (and with ``images`` PNG/SVG) of the store's results
+    into ``out``; return the paths written.
+
+    ``periods``: the periods drawn as networks (default: first, last and each change point);
+    ``colours``: group name -> CSS colour overrides (the config's ``[colours]`` table);
+    ``wait``: seconds to wait for a run holding the store (the CLI's ``--wait``), or None when
+    the caller holds the store's lock itself (rebuild, demo) and the store is opened directly.
+    """
+    from blocwatch.dashboards import ReportTables
+    from blocwatch.dashboards import write_report as write_pages
+
+    opened = Store(store_path, read_only=True) if wait is None else \
+        reading_store(store_path, wait)
+    with opened as store:
+        frames = report_frames(store, body=body, periods=periods)
+    tables = ReportTables(**frames, colours=dict(colours or {}))
+    return write_pages(Path(out), tables, periods=periods, images=images)
+
+
+def report_writer(store_path: str | Path, *, body: str | None = None, images: bool = False,
+                  colours: dict[str, str] | None = None) -> Callable[[Path], list[Path]]:
+    """:func:`write_report` for a folder named later (a rebuild writes into a staging folder)."""
+    return lambda folder: write_report(store_path, folder, body=body, images=images,
+                                       colours=colours)
