@@ -94,8 +94,10 @@ def network_chart(members: pd.DataFrame, edges: pd.DataFrame, body: str, period:
     note = f"Position: {layout_note}."
     if bridge:
         note += f" Node size: {labels.member_label(bridge)}."
-    if len(kept) < len(e):
-        note += f" Only the {len(kept)} strongest of {len(e)} ties are drawn."
+    # The build stores only a period's strongest pairs; n_pairs counts all it had.
+    total = int(e["n_pairs"].max()) if "n_pairs" in e and e["n_pairs"].notna().any() else len(e)
+    if len(kept) < total:
+        note += f" Only the {len(kept)} strongest of {total} ties are drawn."
     groups = nodes["group_name"].fillna("no group").value_counts()
     alt = (f"Network of {len(nodes)} members of {body} in {period}, coloured by group ("
            + ", ".join(f"{g}: {n}" for g, n in groups.items())

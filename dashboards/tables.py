@@ -41,7 +41,7 @@ SCHEMAS: dict[str, tuple[tuple[str, ...], tuple[str, ...]]] = {
     ),
     "edges": (
         ("body", "period", "member_a", "member_b", "agreement"),
-        (),
+        ("n_pairs",),
     ),
     "measures": (
         ("metric",),

@@ -7,7 +7,8 @@ This package never imports duckdb, plotly, click or the other blocwatch packages
 from blocwatch.metrics import registry
 from blocwatch.metrics.registry import FAMILIES, MetricValue, PeriodInput, compute_all, metric_names
 
-# Metric family modules register themselves on import (order = export order).
+# Metric family modules register themselves on import (the order of metric names is
+# reference.METRIC_INFO's, whatever the import order).
 # FAMILY-IMPORTS-BEGIN
 # isort: off
 from blocwatch.metrics import modularity, community, crossgroup, separability  # noqa: F401

@@ -164,8 +164,10 @@ def metric_direction(metric: str) -> str | None:
 
 
 def metric_names() -> list[str]:
-    """Every metric name, in registration order."""
-    return [m for fam in FAMILIES.values() for m in fam.metrics]
+    """Every registered metric, in the order of :data:`~blocwatch.metrics.reference.METRIC_INFO`
+    (set there on purpose, not by the order modules happen to be imported in)."""
+    registered = [m for fam in FAMILIES.values() for m in fam.metrics]
+    return [m for m in METRIC_INFO if m in registered] + sorted(set(registered) - set(METRIC_INFO))
 
 
 def metric_info(metric: str) -> MetricInfo:

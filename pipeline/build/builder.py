@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import contextlib
 import json
-from collections.abc import Callable, Collection, Iterable, Iterator
+from collections.abc import Callable, Collection, Iterator
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -16,11 +16,17 @@ from blocwatch.pipeline.build.executors import Executor, ExecutorSpec, PeriodJob
 from blocwatch.pipeline.build.planner import BodyPlan, body_options, plan_body
 from blocwatch.pipeline.build.subset_trends import subset_trend_rows
 from blocwatch.pipeline.options import BuildOptions
+from blocwatch.pipeline.report.metric_list import metric_list
 from blocwatch.pipeline.store.bodies import require_body
 from blocwatch.pipeline.store.database import Store
+from blocwatch.pipeline.store.results import (
+    drop_periods_except,
+    metric_series,
+    replace_trends,
+    write_measures,
+    write_period,
+)
 from blocwatch.pipeline.store.runs import finish_run, start_run, tool_version
-
-RESULT_TABLES = ("period_metrics", "member_metrics", "group_agreement", "subset_metrics")
 
 
 @dataclass
@@ -46,6 +52,7 @@ def recorded_run(store: Store, command: str, params: dict, executor=None,
         finish_run(store, report.run_id, "failed", report.periods)
         raise
     else:
+        write_measures(store, report.run_id, metric_list())
         finish_run(store, report.run_id, "ok", report.periods)
     finally:
         if pool is not executor:
@@ -62,43 +69,11 @@ def store_result(store: Store, report: BuildReport, res: PeriodResult, seconds: 
         progress(f"{res.body} {res.period_name}")
 
 
-def write_period(store: Store, run_id: int, res: PeriodResult) -> None:
-    """Swap one period's results in: old rows out, new rows in, in one transaction."""
-    key = [res.body, res.period_name]
-    with store.transaction():
-        for table in RESULT_TABLES:
-            store.execute(f"DELETE FROM {table} WHERE body = ? AND period = ?", key)
-        store.execute("DELETE FROM periods WHERE body = ? AND period = ?", key)
-        store.execute("INSERT INTO periods VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
-                      [res.body, res.period_name, res.period_start, res.period_end,
-                       res.fingerprint, run_id, res.n_members, res.n_ballots, res.n_dropped])
-        for table, frame in (("period_metrics", res.metrics), ("member_metrics", res.members),
-                             ("group_agreement", res.groups), ("subset_metrics", res.subsets)):
-            if frame.empty:
-                continue
-            frame = frame.assign(run_id=run_id, body=res.body, period=res.period_name)
-            store.insert_frame(table, frame)
-
-
-def drop_stale_periods(store: Store, body: str, keep: Iterable[str]) -> None:
-    """Remove results of periods the current spec no longer produces."""
-    keep = list(keep)
-    store.register("_bw_keep", pd.DataFrame({"period": pd.Series(keep, dtype=object)}))
-    try:
-        with store.transaction():
-            for table in (*RESULT_TABLES, "periods"):
-                store.execute(f"DELETE FROM {table} WHERE body = ? AND period NOT IN "
-                              "(SELECT period FROM _bw_keep)", [body])
-    finally:
-        store.unregister("_bw_keep")
 
 
 def write_trends(store: Store, run_id: int, body: str) -> None:
     """Mann–Kendall, Theil–Sen and change points for each metric series of a body."""
-    frame = store.df(
-        """SELECT pm.metric, p.period, p.period_start, pm.value FROM period_metrics pm
-           JOIN periods p USING (body, period) WHERE pm.body = ? ORDER BY p.period_start""",
-        [body])
+    frame = metric_series(store, body)
     rows = []
     for metric, series in frame.groupby("metric", sort=False):
         series = series.dropna(subset=["value"])
@@ -112,12 +87,7 @@ def write_trends(store: Store, run_id: int, body: str) -> None:
                      **{k: summary.get(k) for k in ("n_periods", "mk_s", "mk_z", "mk_p", "tau",
                                                     "slope", "slope_low", "slope_high")},
                      "change_points": json.dumps(cps), "note": summary.get("note") or None})
-    subsets = subset_trend_rows(store, run_id, body)
-    with store.transaction():
-        store.execute("DELETE FROM trends WHERE body = ?", [body])
-        store.insert_frame("trends", pd.DataFrame(rows))
-        store.execute("DELETE FROM subset_trends WHERE body = ?", [body])
-        store.insert_frame("subset_trends", subsets)
+    replace_trends(store, body, pd.DataFrame(rows), subset_trend_rows(store, run_id, body))
 
 
 def _to_compute(store: Store, plan: BodyPlan, opts: BuildOptions, version: str,
@@ -164,6 +134,6 @@ def build(store: Store, *, body: str | None = None, options: BuildOptions | None
             for res, seconds in pool.map(PeriodJob(body_opts, version), jobs):
                 store_result(store, report, res, seconds, progress)
             report.removed += [(b, p) for p in plan.removed]  # said by the CLI, not silent
-            drop_stale_periods(store, b, [p.name for p in plan.periods])
+            drop_periods_except(store, b, [p.name for p in plan.periods])
             write_trends(store, report.run_id, b)
     return report

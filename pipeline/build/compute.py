@@ -24,13 +24,14 @@ from blocwatch.metrics.reliability import alpha_by_group
 from blocwatch.metrics.resampling import ballot_weights, percentile_interval, stable_seed
 from blocwatch.pipeline.build.agreement import agreement_counts, agreement_matrix
 from blocwatch.pipeline.build.causes import empty_cause, explain_missing
+from blocwatch.pipeline.build.edges import EDGE_COLUMNS, strongest_pairs
 from blocwatch.pipeline.build.filters import filter_period
 from blocwatch.pipeline.build.graphs import build_graph
 from blocwatch.pipeline.build.left_out import left_out_rows
 from blocwatch.pipeline.build.matrices import VoteMatrix
 from blocwatch.pipeline.build.scored_agreement import scored_period_input
 from blocwatch.pipeline.build.topics import SUBSET_COLUMNS, subset_rows
-from blocwatch.pipeline.options import BuildOptions, parse_rule
+from blocwatch.pipeline.options import EDGE_BUDGET, BuildOptions, parse_rule
 
 METRIC_COLUMNS = ["metric", "value", "low", "high", "null_mean", "null_z", "null_p", "note"]
 
@@ -51,6 +52,9 @@ class PeriodResult:
     # Per-topic and agenda-standardised rows (blocwatch.pipeline.build.topics.SUBSET_COLUMNS).
     subsets: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(columns=SUBSET_COLUMNS))
     replicates: dict | None = None  # metric → bootstrap values (compute_period keep_replicates)
+    # The strongest pairs for the network picture (EDGE_BUDGET) and how many pairs had a value.
+    edges: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(columns=EDGE_COLUMNS))
+    n_pairs: int = 0
 
 
 def fingerprint(vm: VoteMatrix, opts: BuildOptions, version: str) -> str:
@@ -204,11 +208,12 @@ def compute_period(vm: VoteMatrix, opts: BuildOptions, version: str, *,
         rows.append([m, value, iv.low, iv.high, null.get("mean", np.nan),
                      null.get("z", np.nan), null.get("p", np.nan), note])
     metrics = pd.DataFrame(rows, columns=METRIC_COLUMNS)
+    edges, n_pairs = strongest_pairs(inp.agreement, vm.member_ids, EDGE_BUDGET)
     return PeriodResult(vm.body, vm.period.name, vm.period.start, vm.period.end, inp.n,
                         int(vm.votes.shape[1]), vm.dropped, fp, metrics,
                         members, _group_rows(vm, inp, pair_intervals),
                         subset_rows(vm, labels, opts, seed, period_input),
-                        replicates if keep_replicates else None)
+                        replicates if keep_replicates else None, edges, n_pairs)
 
 
 def _member_rows(vm: VoteMatrix, inp: PeriodInput, cause: str = "") -> pd.DataFrame:

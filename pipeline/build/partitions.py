@@ -3,7 +3,7 @@
 Layout (``root`` is any folder a worker can read, e.g. a shared file system)::
 
     root/body=<body>/period=<period>/votes.parquet      one period's votes, long
-    results/body=<body>/period=<period>/{metrics,members,groups,subsets}.parquet + period.json
+    results/body=<body>/period=<period>/{metrics,members,groups,subsets,edges}.parquet + period.json
 
 Names are percent-encoded in folder names (``body=Assembly%20of%20X``). ``votes.parquet`` holds
 one row per member × ballot with the columns ``member_id, name, group, ballot_id, item, held_on,
@@ -36,6 +36,8 @@ from blocwatch.pipeline.options import Period
 
 VOTE_COLUMNS = ["member_id", "name", "group", "ballot_id", "item", "held_on", "choice"]
 _CHOICES = {code: choice for choice, code in CHOICE_CODES.items()}
+
+RESULT_FRAMES = ("metrics", "members", "groups", "subsets", "edges")  # one Parquet file each
 
 
 def partition_dir(root: str | Path, body: str, period: str) -> Path:
@@ -132,10 +134,10 @@ def write_result(res, folder: str | Path) -> Path:
     """One period's results as a result partition (four Parquet tables and period.json)."""
     folder = Path(folder)
     folder.mkdir(parents=True, exist_ok=True)
-    for name in ("metrics", "members", "groups", "subsets"):
+    for name in RESULT_FRAMES:
         getattr(res, name).to_parquet(folder / f"{name}.parquet", index=False)
     meta = {k: getattr(res, k) for k in ("body", "period_name", "n_members", "n_ballots",
-                                         "n_dropped", "fingerprint")}
+                                         "n_dropped", "fingerprint", "n_pairs")}
     meta.update(period_start=str(res.period_start), period_end=str(res.period_end))
     (folder / "period.json").write_text(json.dumps(meta), encoding="utf-8")
     return folder
@@ -146,13 +148,13 @@ def read_result(folder: str | Path):
 
     folder = Path(folder)
     meta = json.loads((folder / "period.json").read_text(encoding="utf-8"))
-    frames = {name: pd.read_parquet(folder / f"{name}.parquet")
-              for name in ("metrics", "members", "groups", "subsets")
-              if (folder / f"{name}.parquet").exists()}  # subsets: absent in older folders
+    frames = {name: pd.read_parquet(folder / f"{name}.parquet") for name in RESULT_FRAMES
+              if (folder / f"{name}.parquet").exists()}  # subsets, edges: absent in older ones
     return PeriodResult(meta["body"], meta["period_name"],
                         date.fromisoformat(meta["period_start"]),
                         date.fromisoformat(meta["period_end"]), meta["n_members"],
-                        meta["n_ballots"], meta["n_dropped"], meta["fingerprint"], **frames)
+                        meta["n_ballots"], meta["n_dropped"], meta["fingerprint"],
+                        n_pairs=meta["n_pairs"], **frames)
 
 
 @dataclass(frozen=True)
@@ -183,12 +185,12 @@ def build_partitions(store, root: str | Path, results: str | Path, *, body: str 
     that has no partition are dropped, and the body's trends are rewritten.
     """
     from blocwatch.pipeline.build.builder import (
-        drop_stale_periods,
         recorded_run,
         store_result,
         write_trends,
     )
     from blocwatch.pipeline.options import BuildOptions
+    from blocwatch.pipeline.store.results import drop_periods_except
     from blocwatch.pipeline.store.runs import tool_version
 
     opts = options or BuildOptions()
@@ -210,7 +212,7 @@ def build_partitions(store, root: str | Path, results: str | Path, *, body: str 
             job = PartitionJob(_partition_options(mine, opts), tool_version(), str(results))
             for folder, seconds in pool.map(job, mine):
                 store_result(store, report, read_result(folder), seconds, progress)
-            drop_stale_periods(store, b, [p for bb, p, _ in tasks if bb == b])
+            drop_periods_except(store, b, [p for bb, p, _ in tasks if bb == b])
             write_trends(store, report.run_id, b)
     return report
 

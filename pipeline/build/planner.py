@@ -29,7 +29,9 @@ from blocwatch.pipeline.build.periods import make_periods
 from blocwatch.pipeline.build.topics import NO_TOPIC
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.options import BuildOptions, Period
+from blocwatch.pipeline.store.bodies import stored_bodies
 from blocwatch.pipeline.store.database import Store
+from blocwatch.pipeline.store.results import result_runs, stored_fingerprints
 from blocwatch.pipeline.store.runs import tool_version
 
 
@@ -114,22 +116,20 @@ def topic_mix(counts) -> tuple:
 
 
 def plan_body(store: Store, body: str, spec: str) -> BodyPlan:
-    stored = dict(store.rows("SELECT period, fingerprint FROM periods WHERE body = ?", [body]))
+    stored = stored_fingerprints(store, body)
     return BodyPlan(body, body_periods(store, body, spec), stored)
 
 
 def trends_stale(store: Store, body: str) -> bool:
     """Trends are written after a run's last period, so they must be as new as every period."""
-    newest_period, oldest_trend = store.rows(
-        """SELECT (SELECT max(run_id) FROM periods WHERE body = ?),
-                  (SELECT min(run_id) FROM trends WHERE body = ?)""", [body, body])[0]
+    newest_period, oldest_trend = result_runs(store, body)
     return newest_period is not None and (oldest_trend is None or oldest_trend < newest_period)
 
 
 def stale_periods(store: Store, options: BuildOptions, body: str | None = None) -> list[Stale]:
     """The body × period pairs a rebuild would recompute (or remove), without writing."""
     version = tool_version()
-    known = [r[0] for r in store.rows("SELECT body FROM bodies ORDER BY body")]
+    known = stored_bodies(store)
     out = []
     for b in (k for k in known if body is None or k == body):
         plan = plan_body(store, b, options.period)

@@ -23,7 +23,8 @@ import pandas as pd
 
 from blocwatch.pipeline.ingest.validate import Problems, add_rest, add_row_problem, staged_unit
 from blocwatch.pipeline.safety import show
-from blocwatch.pipeline.store.database import OPEN_FROM, OPEN_TO, Store
+from blocwatch.pipeline.store.database import Store
+from blocwatch.pipeline.store.schema import OPEN_FROM, OPEN_TO
 
 SPELL_COLUMNS = ["body", "member_id", "group_name", "valid_from", "valid_to"]
 _SHOWN = 20  # roster problems listed one by one; the rest are counted

@@ -1,7 +1,7 @@
-"""What a report is drawn from: the stored results of the chosen bodies and periods (through the
-export tables of :mod:`blocwatch.pipeline.report.export`), the periods worth a network picture,
-the metric list and provenance, as keyword arguments for ``ReportTables``. The dashboards never
-open the store; this module is the only way results reach them.
+"""What a report is drawn from: the stored results of the chosen bodies (through the export
+tables of :mod:`blocwatch.pipeline.report.export`), the network pairs and the metric list the
+build stored, and provenance, as keyword arguments for ``ReportTables``. The dashboards never
+open the store, and nothing here recomputes a number: a picture shows what the build computed.
 """
 
 from __future__ import annotations
@@ -9,55 +9,38 @@ from __future__ import annotations
 import hashlib
 import json
 
-import pandas as pd
-
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.options import BuildOptions
-from blocwatch.pipeline.report.export import export_frame, network_edges
-from blocwatch.pipeline.report.metric_list import metric_list
+from blocwatch.pipeline.report.export import export_frame
 from blocwatch.pipeline.store.bodies import require_body, require_periods, require_results
 from blocwatch.pipeline.store.database import Store
+from blocwatch.pipeline.store.results import (
+    last_build_run,
+    period_edges,
+    period_fingerprints,
+    read_measures,
+)
 from blocwatch.pipeline.store.runs import tool_version
 
 
 def last_build_options(store: Store) -> tuple[BuildOptions, dict]:
-    """The options of the newest finished build (to redraw its graphs) and its run row."""
-    from blocwatch.pipeline.options import AgreementOptions
-
-    rows = store.df("SELECT * FROM runs WHERE status = 'ok' AND command IN ('build', 'rebuild', "
-                    "'demo') ORDER BY run_id DESC LIMIT 1")
-    if rows.empty:
+    """The options of the newest finished build (for the report's provenance) and its run row."""
+    run = last_build_run(store)
+    if run is None:
         raise UsageError("report", "the store holds no finished build",
                          "run 'blocwatch build' first")
-    run = rows.iloc[0].to_dict()
-    params = json.loads(run["params"])
-    params.pop("body", None)
-    agreement = AgreementOptions(**params.pop("agreement", {}))
-    known = set(BuildOptions.__dataclass_fields__)
-    opts = BuildOptions(agreement=agreement, **{k: v for k, v in params.items() if k in known})
-    return opts, run
-
-
-def change_periods(trends, body: str, metric: str = "group_modularity") -> list[str]:
-    row = trends[(trends["body"] == body) & (trends["metric"] == metric)]
-    if row.empty or not row.iloc[0]["change_points"]:
-        return []
-    return list(json.loads(row.iloc[0]["change_points"]))
-
-
-def network_periods(metrics, trends, body: str) -> list[str]:
-    """Default periods for network pictures: the first, the last and each change point."""
-    ordered = (metrics[metrics["body"] == body].sort_values("period_start")["period"]
-               .drop_duplicates().tolist())
-    if not ordered:
-        return []
-    chosen = [ordered[0], *change_periods(trends, body), ordered[-1]]
-    return list(dict.fromkeys(p for p in chosen if p in ordered))
+    return BuildOptions.from_params(run["params"]), run
 
 
 def report_frames(store: Store, *, body: str | None = None,
                   periods: list[str] | None = None) -> dict:
-    """Every frame and the provenance a report needs, as keyword arguments for ReportTables."""
+    """Every frame and the provenance a report needs, as keyword arguments for ReportTables.
+
+    ``measures`` is the methods reference of the metrics the build computed, as it stored it.
+    ``edges`` holds the pairs the build stored for each period (the strongest
+    ``EDGE_BUDGET``, with the period's count of pairs in ``n_pairs``); which periods are
+    drawn is the dashboards' choice (``periods``, else first, last and change points).
+    """
     targets = require_body(store, body)
     require_results(store, targets)
     if periods:
@@ -67,13 +50,12 @@ def report_frames(store: Store, *, body: str | None = None,
     members = export_frame(store, "members", body=body)
     groups = export_frame(store, "groups", body=body)
     trends = export_frame(store, "trends", body=body)
-    edges = [network_edges(store, b, periods or network_periods(metrics, trends, b),
-                           options=opts) for b in targets]
-    fingerprints = store.rows("SELECT body, period, fingerprint FROM periods ORDER BY ALL")
-    data_fp = hashlib.sha256(json.dumps(fingerprints, default=str).encode()).hexdigest()[:16]
+    edges = period_edges(store, body, periods)
+    measures = read_measures(store)
+    data_fp = hashlib.sha256(json.dumps(period_fingerprints(store), default=str).encode()
+                             ).hexdigest()[:16]
     provenance = {"data_fingerprint": data_fp, "tool_version": tool_version(),
                   "run_id": int(run["run_id"]), "run_time": str(run["finished"]),
                   "parameters": opts.params()}
     return {"metrics": metrics, "members": members, "group_agreement": groups,
-            "trends": trends, "edges": pd.concat(edges, ignore_index=True),
-            "measures": metric_list(), "provenance": provenance}
+            "trends": trends, "edges": edges, "measures": measures, "provenance": provenance}

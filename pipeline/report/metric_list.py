@@ -22,17 +22,17 @@ COLUMNS = ["metric", "family", "label", "direction", "description", "formula", "
 def metric_list() -> pd.DataFrame:
     """Every registered metric with its reference (``checks`` joined by " | ")."""
     from blocwatch.metrics import FAMILIES
-    from blocwatch.metrics.registry import metric_info
+    from blocwatch.metrics.registry import metric_info, metric_names
 
+    family_of = {m: fam for fam in FAMILIES.values() for m in fam.metrics}
     rows = []
-    for family in FAMILIES.values():
-        for name in family.metrics:
-            info = metric_info(name)
-            direction = getattr(family, "direction", None)
-            if isinstance(direction, dict):  # per metric, where a family declares it so
-                direction = direction.get(name)
-            rows.append([name, family.name, info.label, direction or "", info.description,
-                         info.formula, info.reference, " | ".join(info.checks)])
+    for name in metric_names():  # the explicit export order, not registration order
+        family, info = family_of[name], metric_info(name)
+        direction = getattr(family, "direction", None)
+        if isinstance(direction, dict):  # per metric, where a family declares it so
+            direction = direction.get(name)
+        rows.append([name, family.name, info.label, direction or "", info.description,
+                     info.formula, info.reference, " | ".join(info.checks)])
     return pd.DataFrame(rows, columns=COLUMNS)
 
 

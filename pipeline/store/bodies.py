@@ -18,7 +18,7 @@ from blocwatch.pipeline.store.database import Store
 CLOSE = 0.75  # difflib ratio at or above which two names are "close"
 # Tables with a body column, children first (the order rows are removed in).
 BODY_TABLES = ("subset_trends", "subset_metrics", "trends", "group_agreement", "member_metrics",
-               "period_metrics", "periods",
+               "period_metrics", "period_edges", "periods",
                "ingests", "votes", "ballots", "memberships", "members", "bodies")
 
 

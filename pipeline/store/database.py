@@ -1,8 +1,9 @@
 """The DuckDB store: the only module that imports ``duckdb``.
 
 One file (``./blocwatch.duckdb`` by default, ``:memory:`` for tests) holds the loaded ballots and
-the computed results. Any DuckDB client can open it. The schema version is recorded in ``meta``;
-:func:`migrate` brings an older file up to date and refuses a newer one.
+the computed results. Any DuckDB client can open it. The tables and their migrations are in
+:mod:`blocwatch.pipeline.store.schema`; what the build writes and the report reads goes through
+:mod:`blocwatch.pipeline.store.results`.
 
 Values always travel as bound parameters or registered data frames, never by string formatting;
 table and column names that reach SQL are checked against :data:`TABLES` first.
@@ -22,196 +23,13 @@ import pandas as pd
 
 from blocwatch.pipeline.errors import EXIT_LOCKED, BadInputError, StoreError
 from blocwatch.pipeline.options import DEFAULT_STORE
-
-SCHEMA_VERSION = 2
-
-# Sentinels for open-ended membership dates (primary keys cannot hold NULL).
-OPEN_FROM = "1800-01-01"
-OPEN_TO = "9999-12-31"
-
-_SCHEMA_V1 = f"""
-CREATE TABLE IF NOT EXISTS meta (key VARCHAR PRIMARY KEY, value VARCHAR NOT NULL);
-CREATE TABLE IF NOT EXISTS bodies (
-    body VARCHAR PRIMARY KEY,
-    scale VARCHAR NOT NULL DEFAULT 'binary'
-);
-CREATE TABLE IF NOT EXISTS members (
-    body VARCHAR NOT NULL,
-    member_id VARCHAR NOT NULL,
-    name VARCHAR,
-    PRIMARY KEY (body, member_id)
-);
-CREATE TABLE IF NOT EXISTS memberships (
-    body VARCHAR NOT NULL,
-    member_id VARCHAR NOT NULL,
-    group_name VARCHAR NOT NULL,
-    valid_from DATE NOT NULL DEFAULT DATE '{OPEN_FROM}',
-    valid_to DATE NOT NULL DEFAULT DATE '{OPEN_TO}',
-    PRIMARY KEY (body, member_id, valid_from),
-    CHECK (valid_to >= valid_from)
-);
-CREATE TABLE IF NOT EXISTS ballots (
-    body VARCHAR NOT NULL,
-    ballot_id VARCHAR NOT NULL,
-    held_on DATE NOT NULL,
-    title VARCHAR,
-    item VARCHAR,
-    scale VARCHAR NOT NULL DEFAULT 'binary',
-    scale_min DOUBLE,
-    scale_max DOUBLE,
-    options VARCHAR,
-    PRIMARY KEY (body, ballot_id)
-);
-CREATE TABLE IF NOT EXISTS votes (
-    body VARCHAR NOT NULL,
-    ballot_id VARCHAR NOT NULL,
-    member_id VARCHAR NOT NULL,
-    raw VARCHAR,
-    choice VARCHAR NOT NULL,
-    score DOUBLE,
-    PRIMARY KEY (body, ballot_id, member_id)
-);
-CREATE TABLE IF NOT EXISTS ingests (
-    sha256 VARCHAR NOT NULL,
-    body VARCHAR NOT NULL,
-    file VARCHAR NOT NULL,
-    rows BIGINT NOT NULL,
-    loaded_at TIMESTAMP NOT NULL,
-    PRIMARY KEY (sha256, body)
-);
-CREATE TABLE IF NOT EXISTS runs (
-    run_id BIGINT PRIMARY KEY,
-    started TIMESTAMP NOT NULL,
-    finished TIMESTAMP,
-    version VARCHAR NOT NULL,
-    command VARCHAR NOT NULL,
-    params VARCHAR NOT NULL,
-    inputs VARCHAR,
-    recomputed VARCHAR,
-    status VARCHAR NOT NULL
-);
-CREATE TABLE IF NOT EXISTS periods (
-    body VARCHAR NOT NULL,
-    period VARCHAR NOT NULL,
-    period_start DATE NOT NULL,
-    period_end DATE NOT NULL,
-    fingerprint VARCHAR NOT NULL,
-    run_id BIGINT NOT NULL,
-    n_members INTEGER NOT NULL,
-    n_ballots INTEGER NOT NULL,
-    n_dropped INTEGER NOT NULL,
-    PRIMARY KEY (body, period)
-);
-CREATE TABLE IF NOT EXISTS period_metrics (
-    run_id BIGINT NOT NULL,
-    body VARCHAR NOT NULL,
-    period VARCHAR NOT NULL,
-    metric VARCHAR NOT NULL,
-    value DOUBLE,
-    low DOUBLE,
-    high DOUBLE,
-    null_mean DOUBLE,
-    null_z DOUBLE,
-    null_p DOUBLE,
-    note VARCHAR,
-    PRIMARY KEY (body, period, metric)
-);
-CREATE TABLE IF NOT EXISTS member_metrics (
-    run_id BIGINT NOT NULL,
-    body VARCHAR NOT NULL,
-    period VARCHAR NOT NULL,
-    member_id VARCHAR NOT NULL,
-    group_name VARCHAR,
-    metric VARCHAR NOT NULL,
-    value DOUBLE,
-    note VARCHAR,
-    PRIMARY KEY (body, period, member_id, metric)
-);
-CREATE TABLE IF NOT EXISTS group_agreement (
-    run_id BIGINT NOT NULL,
-    body VARCHAR NOT NULL,
-    period VARCHAR NOT NULL,
-    group_a VARCHAR NOT NULL,
-    group_b VARCHAR NOT NULL,
-    agreement DOUBLE,
-    n_pairs INTEGER NOT NULL,
-    alpha DOUBLE,  -- Krippendorff's alpha of group_a's members (diagonal rows, scored ballots)
-    PRIMARY KEY (body, period, group_a, group_b)
-);
-CREATE TABLE IF NOT EXISTS trends (
-    run_id BIGINT NOT NULL,
-    body VARCHAR NOT NULL,
-    metric VARCHAR NOT NULL,
-    n_periods INTEGER NOT NULL,
-    mk_s DOUBLE,
-    mk_z DOUBLE,
-    mk_p DOUBLE,
-    tau DOUBLE,
-    slope DOUBLE,
-    slope_low DOUBLE,
-    slope_high DOUBLE,
-    change_points VARCHAR,
-    note VARCHAR,
-    PRIMARY KEY (body, metric)
-);
-"""
-
-# Every table, in dependency order; names reaching SQL are checked against this list.
-TABLES = (
-    "meta", "bodies", "members", "memberships", "ballots", "votes", "ingests", "runs",
-    "periods", "period_metrics", "member_metrics", "group_agreement", "trends",
-    "subset_metrics", "subset_trends",
+from blocwatch.pipeline.store.schema import (
+    SCHEMA_VERSION,
+    TABLES,
+    check_table,
+    check_version,
+    migrate,
 )
-
-# Migrations from version N to N+1, applied in order by :func:`migrate`.
-_MIGRATIONS: dict[int, str] = {
-    # 1 -> 2: one optional topic per ballot; the per-subset series (one topic's ballots, the
-    # agenda-standardised series) and their trends, plus trends of each pair of groups and
-    # the bootstrap interval of each pair's mean agreement.
-    1: """
-ALTER TABLE ballots ADD COLUMN IF NOT EXISTS topic VARCHAR;
-ALTER TABLE group_agreement ADD COLUMN IF NOT EXISTS low DOUBLE;
-ALTER TABLE group_agreement ADD COLUMN IF NOT EXISTS high DOUBLE;
-CREATE TABLE IF NOT EXISTS subset_metrics (
-    run_id BIGINT NOT NULL,
-    body VARCHAR NOT NULL,
-    period VARCHAR NOT NULL,
-    subset VARCHAR NOT NULL,
-    metric VARCHAR NOT NULL,
-    value DOUBLE,
-    low DOUBLE,
-    high DOUBLE,
-    n_ballots INTEGER NOT NULL,
-    note VARCHAR,
-    PRIMARY KEY (body, period, subset, metric)
-);
-CREATE TABLE IF NOT EXISTS subset_trends (
-    run_id BIGINT NOT NULL,
-    body VARCHAR NOT NULL,
-    subset VARCHAR NOT NULL,
-    metric VARCHAR NOT NULL,
-    n_periods INTEGER NOT NULL,
-    mk_s DOUBLE,
-    mk_z DOUBLE,
-    mk_p DOUBLE,
-    tau DOUBLE,
-    slope DOUBLE,
-    slope_low DOUBLE,
-    slope_high DOUBLE,
-    change_points VARCHAR,
-    note VARCHAR,
-    PRIMARY KEY (body, subset, metric)
-);
-""",
-}
-
-
-def check_table(name: str) -> str:
-    """Return ``name`` if it is one of the store's tables, else raise."""
-    if name not in TABLES:
-        raise StoreError(f"table {name!r}", "is not a blocwatch table",
-                         f"use one of: {', '.join(TABLES)}")
-    return name
 
 
 class Store:
@@ -240,7 +58,7 @@ class Store:
         self._depth = 0
         if not read_only:
             migrate(self.con)
-        elif 0 < (version := _check_version(self.con)) < SCHEMA_VERSION:
+        elif 0 < (version := check_version(self.con)) < SCHEMA_VERSION:
             # a reader cannot migrate (read-only), and older tables would fail its queries
             self.con.close()
             raise StoreError(f"store {self.path}", f"has schema version {version}, older than "
@@ -485,36 +303,3 @@ class ReadError(BadInputError):
 
 def _first_line(exc: BaseException) -> str:
     return str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
-
-
-def _check_version(con: duckdb.DuckDBPyConnection) -> int:
-    try:
-        row = con.execute("SELECT value FROM meta WHERE key = 'schema_version'").fetchone()
-    except duckdb.CatalogException:
-        return 0
-    version = int(row[0]) if row else 0
-    if version > SCHEMA_VERSION:
-        raise StoreError("store", f"has schema version {version}, newer than this blocwatch "
-                         f"({SCHEMA_VERSION})", "upgrade blocwatch")
-    return version
-
-
-def migrate(con: duckdb.DuckDBPyConnection) -> int:
-    """Create the schema, or bring an older one up to :data:`SCHEMA_VERSION`; return it."""
-    version = _check_version(con)
-    if version == SCHEMA_VERSION:
-        return version
-    con.execute("BEGIN TRANSACTION")
-    try:
-        if version == 0:
-            con.execute(_SCHEMA_V1)
-            version = 1
-        while version < SCHEMA_VERSION:
-            con.execute(_MIGRATIONS[version])
-            version += 1
-        con.execute("INSERT OR REPLACE INTO meta VALUES ('schema_version', ?)", [str(version)])
-        con.execute("COMMIT")
-    except BaseException:
-        con.execute("ROLLBACK")
-        raise
-    return version

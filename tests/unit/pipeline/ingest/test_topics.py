@@ -12,7 +12,8 @@ from blocwatch.pipeline.build.matrices import load_votes
 from blocwatch.pipeline.build.periods import Period
 from blocwatch.pipeline.errors import BadInputError
 from blocwatch.pipeline.ingest.load import ingest_files
-from blocwatch.pipeline.store.database import SCHEMA_VERSION, Store
+from blocwatch.pipeline.store.database import Store
+from blocwatch.pipeline.store.schema import SCHEMA_VERSION
 
 LONG = """ballot_id,date,member_id,vote,group,{topic}
 B1,2021-01-10,M1,yes,Left,{t1}
