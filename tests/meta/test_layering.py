@@ -53,16 +53,35 @@ def test_layering(pkg, path):
 def test_only_the_store_imports_duckdb():
     users = {str(p.relative_to(ROOT)) for _, p in _modules()
              if any(_matches(n, "duckdb") for n in _imports(p))}
-    assert users == {"pipeline/store/database.py"}
+    assert users == {"pipeline/store/database.py", "pipeline/store/schema.py"}
 
 
-def test_cli_has_no_sql_or_figures():
+SQL = ("SELECT ", "INSERT ", "DELETE ", "UPDATE ")
+# Modules outside store/ and ingest/ staging that still hold SQL (reads of votes for a period's
+# matrix, the topic mix and per-topic series, the rebuild's and status's bookkeeping); the list
+# may only shrink.
+SQL_NOT_YET_MOVED = {"pipeline/build/matrices.py", "pipeline/build/scored.py",
+                     "pipeline/build/partitions.py", "pipeline/build/planner.py",
+                     "pipeline/build/subset_trends.py", "pipeline/ops/rebuild.py",
+                     "pipeline/ops/status.py"}
+
+
+@pytest.mark.parametrize("path", sorted((ROOT / "pipeline" / "cli").glob("*.py")),
+                         ids=lambda p: p.name)
+def test_cli_has_no_sql_or_figures(path):
     """The CLI is the composition root: no SQL strings, no plotly, no numpy arithmetic."""
-    text = (ROOT / "pipeline" / "cli" / "main.py").read_text(encoding="utf-8")
-    names = _imports(ROOT / "pipeline" / "cli" / "main.py")
-    assert not any(_matches(n, m) for n in names for m in ("numpy", "pandas", "plotly"))
-    for keyword in ("SELECT ", "INSERT ", "DELETE ", "UPDATE "):
+    text = path.read_text(encoding="utf-8")
+    assert not any(_matches(n, m) for n in _imports(path) for m in ("numpy", "pandas", "plotly"))
+    for keyword in SQL:
         assert keyword not in text
+
+
+def test_sql_lives_in_the_store_package():
+    """Outside ingest staging, SQL goes through the store package's read and write functions."""
+    holders = {str(p.relative_to(ROOT)) for pkg, p in _modules()
+               if pkg == "pipeline" and p.parent.name not in ("store", "ingest")
+               and any(k in p.read_text(encoding="utf-8") for k in SQL)}
+    assert holders <= SQL_NOT_YET_MOVED, sorted(holders - SQL_NOT_YET_MOVED)
 
 
 def test_the_rule_can_fail(tmp_path):
