@@ -1,20 +1,19 @@
 """Pure polarisation metrics: numpy arrays in, numbers out.
 
-Importing this package registers every metric family in :mod:`blocwatch.metrics.registry`.
+The metric families register themselves in :mod:`blocwatch.metrics.registry` when first used
+(``FAMILIES``, :func:`compute_all`, :func:`metric_names`): the modules and their order are
+``registry.FAMILY_MODULES``, so importing this package, or the vote codes, loads no model.
 This package never imports duckdb, plotly, click or the other blocwatch packages.
 """
 
 from blocwatch.metrics import registry
-from blocwatch.metrics.registry import FAMILIES, MetricValue, PeriodInput, compute_all, metric_names
-
-# Metric family modules register themselves on import (the order of metric names is
-# reference.METRIC_INFO's, whatever the import order).
-# FAMILY-IMPORTS-BEGIN
-# isort: off
-from blocwatch.metrics import modularity, community, crossgroup, separability  # noqa: F401
-from blocwatch.metrics import reliability  # noqa: F401
-from blocwatch.metrics import cohesion, positions  # noqa: F401
-# isort: on
-# FAMILY-IMPORTS-END
+from blocwatch.metrics.registry import MetricValue, PeriodInput, compute_all, metric_names
 
 __all__ = ["FAMILIES", "MetricValue", "PeriodInput", "compute_all", "metric_names", "registry"]
+
+
+def __getattr__(name: str):
+    """``FAMILIES``: every registered family, loaded on first use."""
+    if name == "FAMILIES":
+        return registry.loaded_families()
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")

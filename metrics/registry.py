@@ -6,6 +6,11 @@ A *family* is a function that takes a :class:`PeriodInput` and returns one
 :func:`compute_all` once per period and once per bootstrap replicate; the invariance tests in
 ``tests/unit/metrics/test_registry.py`` run over :data:`FAMILIES`.
 
+The family modules are listed in :data:`FAMILY_MODULES` and imported on first use of the
+families (:func:`loaded_families`, or the module attribute ``FAMILIES``), not when this module
+is: the vote codes and :class:`PeriodInput` stay light for readers such as ``blocwatch
+status``, and the order of families is the list's, whatever order modules are imported in.
+
 What each metric means (label, description, formula, reference, check values) is in
 :mod:`blocwatch.metrics.reference`, read through :func:`metric_info`.
 
@@ -14,6 +19,7 @@ Metric names are part of the export contract: add names, never rename them.
 
 from __future__ import annotations
 
+import importlib
 import math
 from collections.abc import Callable
 from dataclasses import dataclass, field
@@ -112,7 +118,31 @@ class Family:
     interval: str = "percentile"
 
 
-FAMILIES: dict[str, Family] = {}
+# The modules that register the period families, in the order families are listed and computed.
+# A new family module is added here (DEVELOPERS.md, "Adding a metric").
+FAMILY_MODULES = ("modularity", "community", "crossgroup", "separability", "reliability",
+                  "cohesion", "positions")
+_REGISTERED: dict[str, Family] = {}
+
+
+def loaded_families() -> dict[str, Family]:
+    """Every registered family, the :data:`FAMILY_MODULES` imported first, in their order
+    (families registered from elsewhere, e.g. a test, come last)."""
+    for module in FAMILY_MODULES:
+        importlib.import_module(f"blocwatch.metrics.{module}")
+    rank = {f"blocwatch.metrics.{m}": i for i, m in enumerate(FAMILY_MODULES)}
+    ordered = sorted(_REGISTERED.values(), key=lambda f: rank.get(f.func.__module__, len(rank)))
+    if [f.name for f in ordered] != list(_REGISTERED):  # a module imported out of turn
+        _REGISTERED.clear()
+        _REGISTERED.update((f.name, f) for f in ordered)
+    return _REGISTERED
+
+
+def __getattr__(name: str):
+    """``FAMILIES``: the registered families (:func:`loaded_families`), loaded on first use."""
+    if name == "FAMILIES":
+        return loaded_families()
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 
 def register(name: str, metrics: tuple[str, ...], *,
@@ -142,9 +172,9 @@ def register(name: str, metrics: tuple[str, ...], *,
                          f"each of its null-tested metrics, received {bad or untested}")
 
     def deco(func: Callable[[PeriodInput], dict[str, MetricValue]]):
-        if name in FAMILIES:
+        if name in _REGISTERED:
             raise ValueError(f"metric family {name!r} is registered twice")
-        FAMILIES[name] = Family(name, metrics, func, bounds or {}, permutation_null, expensive,
+        _REGISTERED[name] = Family(name, metrics, func, bounds or {}, permutation_null, expensive,
                                 needs, direction, dict(null_tiebreak or {}), interval)
         return func
 
@@ -157,7 +187,7 @@ def metric_direction(metric: str) -> str | None:
     >>> metric_direction("cross_group_share"), metric_direction("communities")
     ('lower', None)
     """
-    for fam in FAMILIES.values():
+    for fam in loaded_families().values():
         if metric in fam.metrics:
             return fam.direction.get(metric)
     return None
@@ -166,7 +196,7 @@ def metric_direction(metric: str) -> str | None:
 def metric_names() -> list[str]:
     """Every registered metric, in the order of :data:`~blocwatch.metrics.reference.METRIC_INFO`
     (set there on purpose, not by the order modules happen to be imported in)."""
-    registered = [m for fam in FAMILIES.values() for m in fam.metrics]
+    registered = [m for fam in loaded_families().values() for m in fam.metrics]
     return [m for m in METRIC_INFO if m in registered] + sorted(set(registered) - set(METRIC_INFO))
 
 
@@ -187,7 +217,7 @@ def compute_all(inp: PeriodInput, *, families: list[str] | None = None
     crash. A family whose ``needs`` field is None here is left out (no rows at all).
     """
     out: dict[str, MetricValue] = {}
-    for fam in FAMILIES.values():
+    for fam in loaded_families().values():
         if families is not None and fam.name not in families:
             continue
         if any(getattr(inp, f) is None for f in fam.needs):

@@ -59,6 +59,9 @@ DEFAULT_AGREEMENT = "match"
 # pairs per period stay out of the store.
 EDGE_BUDGET = 5000
 
+# The topic of ballots without one, in per-topic figures and the topic mix.
+NO_TOPIC = "(none)"
+
 # Choice lists of the command line (click.Choice reads them from here).
 AGREEMENT_MEASURES = ("match", "kappa", "kappa-quadratic")
 EXECUTORS = ("local", "dask")

@@ -6,8 +6,6 @@ it on a matrix it was handed.
 from __future__ import annotations
 
 import dataclasses
-import hashlib
-import json
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -26,6 +24,7 @@ from blocwatch.pipeline.build.agreement import agreement_counts, agreement_matri
 from blocwatch.pipeline.build.causes import empty_cause, explain_missing
 from blocwatch.pipeline.build.edges import EDGE_COLUMNS, strongest_pairs
 from blocwatch.pipeline.build.filters import filter_period
+from blocwatch.pipeline.build.fingerprint import fingerprint
 from blocwatch.pipeline.build.graphs import build_graph
 from blocwatch.pipeline.build.left_out import left_out_rows
 from blocwatch.pipeline.build.matrices import VoteMatrix
@@ -55,22 +54,6 @@ class PeriodResult:
     # The strongest pairs for the network picture (EDGE_BUDGET) and how many pairs had a value.
     edges: pd.DataFrame = field(default_factory=lambda: pd.DataFrame(columns=EDGE_COLUMNS))
     n_pairs: int = 0
-
-
-def fingerprint(vm: VoteMatrix, opts: BuildOptions, version: str) -> str:
-    """Hash of the period's votes, the groups in force, the parameters and the tool version."""
-    h = hashlib.sha256()
-    for arr in (vm.member_ids, vm.groups, vm.ballot_ids, vm.items):
-        h.update("\x1f".join(map(str, arr)).encode())
-        h.update(b"\x1e")
-    h.update(np.ascontiguousarray(vm.votes).tobytes())
-    if vm.topics is not None:  # only bodies with topics: others keep their stored fingerprints
-        h.update(b"topics\x1e" + "\x1f".join(map(str, vm.topics)).encode())
-    if vm.scales is not None:  # scored ballots: their scales and answers
-        h.update(vm.scales.digest())
-    h.update(json.dumps(opts.params(), sort_keys=True, default=str).encode())
-    h.update(version.encode())
-    return h.hexdigest()
 
 
 def period_input(votes: np.ndarray, labels: np.ndarray, opts: BuildOptions, seed: int,

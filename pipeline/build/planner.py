@@ -9,7 +9,7 @@ over. A period is
 
 * ``new`` when the store holds no results for it,
 * ``changed`` when its fingerprint (its votes, the groups in force, the build options and the
-  tool version; :func:`~blocwatch.pipeline.build.compute.fingerprint`) differs from the stored
+  tool version; :func:`~blocwatch.pipeline.build.fingerprint.fingerprint`) differs from the stored
   one, and
 * ``removed`` when the store holds results for it but the spec no longer produces it.
 
@@ -23,12 +23,11 @@ import dataclasses
 from collections.abc import Iterator
 from dataclasses import dataclass, field
 
-from blocwatch.pipeline.build.compute import fingerprint
+from blocwatch.pipeline.build.fingerprint import fingerprint
 from blocwatch.pipeline.build.matrices import VoteMatrix, ballot_date_range, load_votes
 from blocwatch.pipeline.build.periods import make_periods
-from blocwatch.pipeline.build.topics import NO_TOPIC
 from blocwatch.pipeline.errors import UsageError
-from blocwatch.pipeline.options import BuildOptions, Period
+from blocwatch.pipeline.options import NO_TOPIC, BuildOptions, Period
 from blocwatch.pipeline.store.bodies import stored_bodies
 from blocwatch.pipeline.store.database import Store
 from blocwatch.pipeline.store.results import result_runs, stored_fingerprints

@@ -26,13 +26,12 @@ from blocwatch.metrics.agenda import standardise_agreement, stratified_ballot_we
 from blocwatch.metrics.registry import FAMILIES, PeriodInput
 from blocwatch.metrics.resampling import percentile_interval
 from blocwatch.pipeline.build.graphs import build_graph
-from blocwatch.pipeline.options import parse_rule
+from blocwatch.pipeline.options import NO_TOPIC, parse_rule
 
 # The families computed per subset: the cheap headline ones that read only the agreement and
 # the graph (the standardised series has agreement, not votes).
 SUBSET_FAMILIES = ("modularity", "crossgroup")
 STANDARDISED = "agenda-standardised"
-NO_TOPIC = "(none)"
 # The topics with enough ballots in a period must carry at least this share of the reference
 # mix, else the period gets no standardised figure (it would stand for a few topics only).
 MIN_REFERENCE_COVERAGE = 0.5

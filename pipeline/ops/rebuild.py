@@ -21,7 +21,6 @@ a killed run left undone is stale for the next one.
 
 from __future__ import annotations
 
-import hashlib
 import json
 import os
 import shutil
@@ -31,34 +30,16 @@ from pathlib import Path
 
 from blocwatch.pipeline.build.builder import BuildReport, build
 from blocwatch.pipeline.build.planner import Stale, stale_periods
-from blocwatch.pipeline.config import Config, body_ingest_options, body_sources, read_config
+from blocwatch.pipeline.config import Config, read_config
 from blocwatch.pipeline.errors import UsageError
-from blocwatch.pipeline.ingest.sniff import load_key
 from blocwatch.pipeline.ops.lock import store_lock
 from blocwatch.pipeline.ops.scan_load import load_scan
+from blocwatch.pipeline.ops.sources import SourceFile, config_bodies, scan_sources
 from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.store.bodies import close_matches
 from blocwatch.pipeline.store.database import Store
 
-_CHUNK = 1 << 20
 MARKER = ".blocwatch-outputs.json"  # in the output folder: the run whose results it shows
-
-
-def file_sha256(path: str | Path) -> str:
-    h = hashlib.sha256()
-    with open(path, "rb") as fh:
-        while chunk := fh.read(_CHUNK):
-            h.update(chunk)
-    return h.hexdigest()
-
-
-@dataclass(frozen=True)
-class SourceFile:
-    body: str
-    path: Path
-    sha256: str
-    state: str  # "new", "changed" (same path, other content) or "loaded"
-    kind: str = "votes"  # or "members" (roster) or "ballots"
 
 
 @dataclass
@@ -93,55 +74,6 @@ class RebuildReport:
                 "; outputs rewritten from the stored results" if self.outputs else "")
         return (f"run {self.build.run_id}: {files}; {len(self.build.periods)} period(s) "
                 f"recomputed, {len(self.build.skipped)} unchanged")
-
-
-def _config_bodies(cfg: Config, body: str | None) -> list[str]:
-    names = list(cfg.bodies)
-    if body is None:
-        return names
-    return [body] if body in names else []
-
-
-def scan_sources(store: Store | None, cfg: Config, body: str | None = None) -> list[SourceFile]:
-    """Every file the configured globs match, with its state against the store's load log."""
-    out = []
-    for name in _config_bodies(cfg, body):
-        loaded: dict[str, set[str]] = {}
-        if store is not None:
-            for sha, file in store.rows("SELECT sha256, file FROM ingests WHERE body = ?",
-                                        [name]):
-                loaded.setdefault(sha, set()).add(file)
-        seen_paths = {f for files in loaded.values() for f in files}
-        files = [(p, "votes") for p in body_sources(name, cfg)]
-        aux = body_ingest_options(name, cfg)
-        files += [(Path(aux[k]).resolve(), k) for k in ("members", "ballots") if k in aux]
-        for path, kind in files:
-            if not path.is_file():
-                raise UsageError(f"config: bodies.{name}.{kind}", f"names {path}, which does "
-                                 "not exist", "fix the path (relative to blocwatch.toml)")
-            sha = load_key(path, file_sha256(path), aux.get("sheet") if kind == "votes" else None)
-            if sha in loaded:
-                state = "loaded"
-            elif _seen(path, cfg, seen_paths):
-                state = "changed"
-            else:
-                state = "new"
-            out.append(SourceFile(name, path, sha, state, kind))
-    return out
-
-
-def _seen(path: Path, cfg: Config, seen_paths: set[str]) -> bool:
-    """Was a file at this place loaded before? Matched by its path relative to the project
-    folder, so a project moved or copied elsewhere still knows its files."""
-    if str(path) in seen_paths:
-        return True
-    try:
-        tail = "/" + path.relative_to(cfg.base.resolve()).as_posix()
-    except ValueError:
-        return False
-    return any(p.replace("\\", "/").endswith(tail) for p in seen_paths)
-
-
 
 
 def results_run(store: Store) -> int | None:
@@ -205,7 +137,7 @@ def rebuild(store_path: str | Path, *, options: BuildOptions | None = None,
             pending = [s for s in report.sources if s.state != "loaded"]
             if pending:
                 report.ingested, report.code_lines = load_scan(store, cfg, pending)
-            empty = [n for n in _config_bodies(cfg, body)
+            empty = [n for n in config_bodies(cfg, body)
                      if not any(s.body == n and s.kind == "votes" for s in report.sources)]
             report.notes = [f"bodies.{n}.sources matches no file yet" for n in empty]
             if not store.scalar("SELECT count(*) FROM ballots"):

@@ -19,8 +19,8 @@ from blocwatch.pipeline.config import Config, read_config
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.ops.lock import describe, lock_holder
 from blocwatch.pipeline.ops.readers import reading_store, wait_for_store
-from blocwatch.pipeline.ops.rebuild import scan_sources
 from blocwatch.pipeline.ops.settings import settings_changes
+from blocwatch.pipeline.ops.sources import scan_sources
 from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.store.bodies import close_matches
 from blocwatch.pipeline.store.database import Store

@@ -38,6 +38,11 @@ def stored_bodies(store: Store) -> list[str]:
     return [r[0] for r in store.rows("SELECT body FROM bodies ORDER BY body")]
 
 
+def loaded_files(store: Store, body: str) -> list[tuple[str, str]]:
+    """(load key, file path) of every file loaded for ``body`` (the store's load log)."""
+    return store.rows("SELECT sha256, file FROM ingests WHERE body = ?", [body])
+
+
 def require_body(store: Store, body: str | None) -> list[str]:
     """The bodies a reader works on: ``[body]`` if the store holds it, else every body.
 

@@ -3,6 +3,9 @@ CLI in a fresh interpreter on a real stored build, then a look at ``sys.modules`
 
 ``report``, ``export`` and ``--help`` read what a build stored; they must not load the
 agreement kernel, period computation, model fits (the metrics package) or scikit-learn.
+``status`` reads the votes to fingerprint each period (is it stale?), so it may load the vote
+matrix, the planner and the metric registry's vote codes, but no agreement kernel, period
+computation, metric family, scikit-learn, igraph or scipy.optimize.
 """
 
 import json
@@ -20,6 +23,13 @@ from tests import toy_rollcall as toy
 COMPUTE_STACK = ("blocwatch.pipeline.build", "blocwatch.metrics", "sklearn", "scipy",
                  "igraph", "leidenalg")
 DATA_STACK = ("numpy", "pandas", "duckdb", "plotly", "networkx")
+# What status may not load: the computing parts of build/ and every metrics module but the
+# registry (vote codes, PeriodInput) and the methods reference.
+STATUS_BANNED = ("blocwatch.pipeline.build.compute", "blocwatch.pipeline.build.agreement",
+                 "blocwatch.pipeline.build.builder", "blocwatch.pipeline.build.graphs",
+                 "blocwatch.pipeline.build.topics", "blocwatch.pipeline.build.scored_agreement",
+                 "blocwatch.metrics.", "sklearn", "scipy.optimize", "igraph", "leidenalg")
+STATUS_ALLOWED = ("blocwatch.metrics.registry", "blocwatch.metrics.reference")
 
 RUN = """
 import json, sys
@@ -54,8 +64,11 @@ def _loaded(args, tmp_path, cwd) -> tuple[int, list[str]]:
     return found["code"], found["modules"]
 
 
-def _hits(modules, banned):
-    return sorted(m for m in modules if any(m == b or m.startswith(b + ".") for b in banned))
+def _hits(modules, banned, allowed=()):
+    """Loaded modules named in ``banned`` or below one (a name ending in "." bans only what
+    is below it), leaving out ``allowed``."""
+    return sorted(m for m in modules if m not in allowed and any(
+        m.startswith(b) if b.endswith(".") else m == b or m.startswith(b + ".") for b in banned))
 
 
 @pytest.mark.parametrize("args,banned", [
@@ -74,9 +87,21 @@ def test_entry_point_loads_no_compute_stack(args, banned, store, tmp_path):
     assert _hits(modules, banned) == []
 
 
+def test_status_loads_no_computing_part(store, tmp_path):
+    code, modules = _loaded(["status", "--store", str(store), "--min-shared", "1",
+                             "--bootstrap", "0", "--permutations", "0", "--keep-unanimous"],
+                            tmp_path, tmp_path)
+    assert code == 0
+    assert _hits(modules, STATUS_BANNED, STATUS_ALLOWED) == []
+    assert "blocwatch.pipeline.build.planner" in modules  # it did judge the periods
+
+
 def test_negative_control_build_loads_the_compute_stack(store, tmp_path):
-    """The check sees the stack where it belongs (so the tests above can fail)."""
+    """The checks see the stack where it belongs (so the tests above can fail)."""
     code, modules = _loaded(["build", "--store", str(store), "--bootstrap", "0",
                              "--permutations", "0", "--min-shared", "1"], tmp_path, tmp_path)
     assert code == 0
     assert _hits(modules, ("blocwatch.metrics", "sklearn", "blocwatch.pipeline.build.compute"))
+    found = _hits(modules, STATUS_BANNED, STATUS_ALLOWED)
+    assert {"blocwatch.pipeline.build.compute", "blocwatch.metrics.modularity"} <= set(found)
+    assert not set(STATUS_ALLOWED) & set(found)

@@ -8,7 +8,7 @@ periods), checked against what ``build`` then writes.
 import pytest
 
 from blocwatch.pipeline.build.builder import build
-from blocwatch.pipeline.build.compute import fingerprint
+from blocwatch.pipeline.build.fingerprint import fingerprint
 from blocwatch.pipeline.build.planner import Stale, plan_body, stale_periods
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.store.runs import tool_version

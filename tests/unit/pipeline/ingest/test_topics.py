@@ -7,11 +7,12 @@ from datetime import date
 
 import pytest
 
-from blocwatch.pipeline.build.compute import BuildOptions, fingerprint
+from blocwatch.pipeline.build.fingerprint import fingerprint
 from blocwatch.pipeline.build.matrices import load_votes
 from blocwatch.pipeline.build.periods import Period
 from blocwatch.pipeline.errors import BadInputError
 from blocwatch.pipeline.ingest.load import ingest_files
+from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.store.database import Store
 from blocwatch.pipeline.store.schema import SCHEMA_VERSION
 

@@ -10,14 +10,8 @@ import json
 import pytest
 
 from blocwatch.pipeline.config import Config
-from blocwatch.pipeline.ops.rebuild import (
-    MARKER,
-    file_sha256,
-    outputs_current,
-    rebuild,
-    scan_sources,
-    swap_outputs,
-)
+from blocwatch.pipeline.ops.rebuild import MARKER, outputs_current, rebuild, swap_outputs
+from blocwatch.pipeline.ops.sources import file_sha256, scan_sources
 from blocwatch.pipeline.store.database import Store
 from tests import toy_rollcall as toy
 
