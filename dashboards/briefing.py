@@ -55,8 +55,11 @@ def chosen_periods(tables: ReportTables, body: str, periods: list[str] | None = 
 
 def build_briefing(tables: ReportTables, body: str, *, colours: dict[str, str],
                    periods: list[str] | None = None, seed: int = 0, n_bridges: int = 3,
-                   max_edges: int = 3000, bridge: str | None = None) -> tuple[str, list[Chart]]:
-    """HTML of the briefing page for ``body`` and the charts on it (for embedding)."""
+                   max_edges: int = 3000, bridge: str | None = None,
+                   plotly_src: str | None = None) -> tuple[str, list[Chart]]:
+    """HTML of the briefing page for ``body`` and the charts on it (for embedding).
+
+    ``plotly_src``: relative URL of plotly.js beside the page; None puts it inline."""
     t = tables.for_body(body)
     m = t.metrics
     key = slug(body)
@@ -109,7 +112,7 @@ def build_briefing(tables: ReportTables, body: str, *, colours: dict[str, str],
     parts.append(text.methods_html(names, sorted(t.members["metric"].dropna().unique()), known))
     parts.append(text.provenance_html(tables.provenance, sorted(m["run_id"].dropna().unique())))
     html = page(f"{body} — blocwatch briefing", "\n".join(parts),
-                charts=any(not c.empty for c in charts))
+                charts=any(not c.empty for c in charts), plotly_src=plotly_src)
     return html, charts
 
 

@@ -15,11 +15,12 @@ from blocwatch.dashboards.verdict import opening
 COMPARE_COLUMNS = {"body": "Body", **TREND_COLUMNS}
 
 
-def build_comparison(tables: ReportTables, *,
-                     briefing_links: dict[str, str] | None = None) -> tuple[str, list[Chart]]:
+def build_comparison(tables: ReportTables, *, briefing_links: dict[str, str] | None = None,
+                     plotly_src: str | None = None) -> tuple[str, list[Chart]]:
     """HTML of the comparison page and its charts.
 
-    ``briefing_links`` maps body → relative URL of its briefing page (linked from the list).
+    ``briefing_links`` maps body → relative URL of its briefing page (linked from the list);
+    ``plotly_src`` is the relative URL of plotly.js beside the page (None: inline).
     """
     m = tables.metrics
     known = labels.catalogue(tables.measures)
@@ -55,5 +56,5 @@ def build_comparison(tables: ReportTables, *,
     parts.append(text.methods_html(names, [], known))
     parts.append(text.provenance_html(tables.provenance, sorted(m["run_id"].dropna().unique())))
     html = page("Trends across bodies — blocwatch", "\n".join(parts),
-                charts=any(not c.empty for c in charts))
+                charts=any(not c.empty for c in charts), plotly_src=plotly_src)
     return html, charts

@@ -2,9 +2,12 @@
 
 Charts are stored as JSON data blocks (``<script type="application/json">``, never executed) and
 drawn by one small render script, so a page carries exactly two scripts: plotly.js and the
-renderer. The page's Content-Security-Policy allows those two by hash and nothing else — no
-network source of any kind, no other inline script — so even a string that slipped past escaping
-could not run.
+renderer. plotly.js is either inline (a self-contained page, to send on its own) or one file
+beside the pages, loaded by relative path (a report folder: the 4–5 MB bundle once, not once per
+page). The page's Content-Security-Policy allows the inline scripts by hash, the bundle file as
+``'self'`` (the page's own folder or site; Chromium counts ``file://`` pages as their own
+origin) and nothing else — no network source, no other inline script — so even a string that
+slipped past escaping could not run.
 """
 
 from __future__ import annotations
@@ -27,6 +30,13 @@ from blocwatch.dashboards.style import CSS
 RENDER_JS = """(function () {
   var divs = document.querySelectorAll("div[data-bw-spec]");
   window.__bwCharts = divs.length; window.__bwRendered = 0; window.__bwErrors = [];
+  window.addEventListener("beforeprint", function () {
+    document.querySelectorAll("details").forEach(function (d) { d.open = true; });
+  });
+  if (typeof Plotly === "undefined") {  // a folder page copied away from its plotly.min.js
+    divs.forEach(function (div) { div.textContent = MISSING; });
+    window.__bwErrors.push("plotly.js not loaded"); return;
+  }
   divs.forEach(function (div) {
     try {
       var spec = JSON.parse(document.getElementById(div.getAttribute("data-bw-spec")).textContent);
@@ -35,17 +45,19 @@ RENDER_JS = """(function () {
         function (e) { window.__bwErrors.push(String(e)); });
     } catch (e) { window.__bwErrors.push(String(e)); }
   });
-  window.addEventListener("beforeprint", function () {
-    document.querySelectorAll("details").forEach(function (d) { d.open = true; });
-  });
-})();"""
+})();""".replace("MISSING", json.dumps(
+    "Chart not drawn: this page loads plotly.min.js from its report folder. Open the page "
+    "inside that folder, or write the report with --single-file for pages that stand alone."))
+
+
+# The plotly.js bundle shipped inside the plotly package: read or copied, never fetched.
+PLOTLY_BUNDLE = Path(plotly.__file__).parent / "package_data" / "plotly.min.js"
 
 
 @lru_cache(maxsize=1)
 def plotly_js() -> str:
-    """The plotly.js bundle shipped inside the plotly package (read once, never fetched)."""
-    path = Path(plotly.__file__).parent / "package_data" / "plotly.min.js"
-    text = path.read_text(encoding="utf-8")
+    """The plotly.js bundle as text for an inline ``<script>`` (read once)."""
+    text = PLOTLY_BUNDLE.read_text(encoding="utf-8")
     # The bundle must not be able to end its own <script> element; "<\\/" means the same in JS.
     return re.sub(r"</(script)", r"<\\/\1", text, flags=re.IGNORECASE)
 
@@ -54,9 +66,14 @@ def _sha256(text: str) -> str:
     return "'sha256-" + base64.b64encode(hashlib.sha256(text.encode()).digest()).decode() + "'"
 
 
-def csp(scripts: list[str]) -> str:
-    """Content-Security-Policy allowing exactly ``scripts`` (by hash) and inline styles."""
-    allowed = " ".join(_sha256(s) for s in scripts) or "'none'"
+def csp(scripts: list[str], *, own_files: bool = False) -> str:
+    """Content-Security-Policy allowing exactly ``scripts`` (by hash) and inline styles.
+
+    ``own_files``: also allow script files from the page's own origin (the bundle file of a
+    report folder); inline scripts still need their hash.
+    """
+    allowed = " ".join((["'self'"] if own_files else []) + [_sha256(s) for s in scripts]) \
+        or "'none'"
     return ("default-src 'none'; script-src " + allowed
             + "; style-src 'unsafe-inline'; img-src data: blob:; font-src data:; "
             "connect-src 'none'; base-uri 'none'; form-action 'none'")
@@ -127,13 +144,20 @@ def chart_block(chart: Chart, dom_id: str, columns: dict[str, str], *, metric: s
             f"{numbers_table(chart.data, columns, metric=metric)}</details></figcaption></figure>")
 
 
-def page(title: str, body_html: str, *, charts: bool = True) -> str:
-    """A complete offline page: inline CSS, plotly.js inline once, the renderer, strict CSP."""
-    scripts = [plotly_js(), RENDER_JS] if charts else []
-    tail = "".join(f"<script>{s}</script>\n" for s in scripts)
+def page(title: str, body_html: str, *, charts: bool = True,
+         plotly_src: str | None = None) -> str:
+    """A complete offline page: inline CSS, plotly.js once, the renderer, strict CSP.
+
+    ``plotly_src``: relative URL of the plotly.js file beside the page (a report folder);
+    ``None`` puts the bundle inline, so the page works on its own (single-file mode).
+    """
+    bundle = plotly_src is not None and charts
+    scripts = (([] if bundle else [plotly_js()]) + [RENDER_JS]) if charts else []
+    loader = f"<script src='{esc(plotly_src)}'></script>\n" if bundle else ""
+    tail = loader + "".join(f"<script>{s}</script>\n" for s in scripts)
     return (
         "<!DOCTYPE html>\n<html lang='en'>\n<head>\n<meta charset='utf-8'>\n"
         "<meta name='viewport' content='width=device-width, initial-scale=1'>\n"
-        f'<meta http-equiv="Content-Security-Policy" content="{csp(scripts)}">\n'
+        f'<meta http-equiv="Content-Security-Policy" content="{csp(scripts, own_files=bundle)}">\n'
         f"<meta name='generator' content='blocwatch'>\n<title>{esc(title)}</title>\n"
         f"<style>{CSS}</style>\n</head>\n<body>\n{body_html}\n{tail}</body>\n</html>\n")

@@ -3,7 +3,8 @@
 Layout of ``out_dir`` (names are stable: they come from body, chart and metric names)::
 
     index.html                          links to everything below
-    briefing-<body>.html                one self-contained offline page per body
+    plotly.min.js                       the charting library, once (every page loads it)
+    briefing-<body>.html                one offline page per body
     comparison.html                     every body on one chart per metric
     embed/<body>/<chart>.div.html       snippet (host page loads plotly.js once)
     embed/<body>/<chart>.json           plotly JSON spec
@@ -13,6 +14,9 @@ Layout of ``out_dir`` (names are stable: they come from body, chart and metric n
 
 ``<chart>`` is ``trend-<metric>``, ``network-<period>`` or ``groups-heatmap``; ``<body>`` is a
 file-name form of the body's name.
+
+With ``single_file=True`` there is no ``plotly.min.js``: every page carries the library inline
+and stands alone (to send one page by mail), at the library's size per page.
 """
 
 from __future__ import annotations
@@ -20,6 +24,7 @@ from __future__ import annotations
 import hashlib
 import logging
 import os
+import shutil
 from pathlib import Path
 
 from blocwatch.dashboards import palette
@@ -28,13 +33,14 @@ from blocwatch.dashboards.chart import Chart, slug
 from blocwatch.dashboards.compare import build_comparison
 from blocwatch.dashboards.embed import write_pieces
 from blocwatch.dashboards.errors import ImageExportUnavailable, ReportInputError
-from blocwatch.dashboards.html import page
+from blocwatch.dashboards.html import PLOTLY_BUNDLE, page
 from blocwatch.dashboards.images import FORMATS, export_images, find_browser
 from blocwatch.dashboards.safe import esc
 from blocwatch.dashboards.tables import ReportTables
 
 log = logging.getLogger("blocwatch.dashboards")
 IMAGE_WIDTH = 900
+PLOTLY_FILE = "plotly.min.js"  # beside the pages, which load it by this relative path
 
 
 def body_slugs(bodies: list[str]) -> dict[str, str]:
@@ -53,7 +59,7 @@ def write_report(out_dir: str | os.PathLike, tables: ReportTables, *,
                  images: bool | None = None, image_formats: tuple[str, ...] = FORMATS,
                  browser_path: str | os.PathLike | None = None, seed: int = 0,
                  n_bridges: int = 3, max_edges: int = 3000,
-                 bridge_metric: str | None = None) -> list[Path]:
+                 bridge_metric: str | None = None, single_file: bool = False) -> list[Path]:
     """Write briefing pages, the comparison page, the index and embeddable pieces.
 
     Parameters
@@ -84,6 +90,10 @@ def write_report(out_dir: str | os.PathLike, tables: ReportTables, *,
     bridge_metric : str, optional
         Member score for node size and the bridges table (default: the first present of
         ``bridging``, ``participation``, ``cross_tie_share``, ``delta_q``, ``cross_partners``).
+    single_file : bool
+        False (default): plotly.js is written once into the folder as ``plotly.min.js`` and
+        every page loads it from there (still offline). True: every page carries plotly.js
+        inline and works on its own, e.g. sent by mail.
 
     Returns
     -------
@@ -119,15 +129,21 @@ def write_report(out_dir: str | os.PathLike, tables: ReportTables, *,
     jobs: list[tuple[Chart, Path]] = []
     pieces: list[Path] = []
     links = {b: f"briefing-{keys[b]}.html" for b in bodies}
+    src = None if single_file else PLOTLY_FILE
+    drawn = False  # does any page draw a chart (and so load plotly.js)?
     for body in bodies:
         chosen = periods.get(body) if isinstance(periods, dict) else periods
         html, charts = build_briefing(tables, body, colours=colours, periods=chosen, seed=seed,
                                       n_bridges=n_bridges, max_edges=max_edges,
-                                      bridge=bridge_metric)
+                                      bridge=bridge_metric, plotly_src=src)
         written.append(_write(out / links[body], html))
+        drawn = drawn or any(not c.empty for c in charts)
         pieces += _pieces(charts, out / "embed" / keys[body], f"bw-{keys[body]}", jobs)
-    html, charts = build_comparison(tables, briefing_links=links)
+    html, charts = build_comparison(tables, briefing_links=links, plotly_src=src)
     written.append(_write(out / "comparison.html", html))
+    drawn = drawn or any(not c.empty for c in charts)
+    if drawn and not single_file:
+        written.append(Path(shutil.copyfile(PLOTLY_BUNDLE, out / PLOTLY_FILE)))
     pieces += _pieces(charts, out / "embed" / "comparison", "bw-compare", jobs)
     image_note = ""
     if images is not False and jobs:
@@ -141,7 +157,8 @@ def write_report(out_dir: str | os.PathLike, tables: ReportTables, *,
                 raise
             image_note = f"Images not written: {exc}"
             log.info(image_note)
-    written.append(_write(out / "index.html", _index(links, pieces, out, image_note)))
+    bundle = drawn and not single_file
+    written.append(_write(out / "index.html", _index(links, pieces, out, image_note, bundle)))
     return written + pieces
 
 
@@ -161,12 +178,18 @@ def _pieces(charts: list[Chart], folder: Path, id_prefix: str,
     return paths
 
 
-def _index(links: dict[str, str], pieces: list[Path], out: Path, image_note: str) -> str:
+def _index(links: dict[str, str], pieces: list[Path], out: Path, image_note: str,
+           bundle: bool) -> str:
     pages = "".join(f"<li><a href='{esc(href)}'>{esc(body)}</a></li>"
                     for body, href in links.items())
     files = "".join(f"<li><a href='{esc(p.relative_to(out).as_posix())}'>"
                     f"{esc(p.relative_to(out).as_posix())}</a></li>" for p in pieces)
     note = f"<p class='bw-note'>{esc(image_note)}</p>" if image_note else ""
+    if bundle:
+        note += (f"<p class='bw-note'>The pages load the charting library from "
+                 f"<a href='{PLOTLY_FILE}'>{PLOTLY_FILE}</a> in this folder: keep it beside "
+                 "them, and load it once on a page that hosts the snippets below. To send one "
+                 "page on its own, write the report with --single-file.</p>")
     body = (f"<header><p class='bw-kicker'>blocwatch report</p><h1>Contents</h1></header>"
             f"<h2>Briefing pages</h2><ul>{pages or '<li>none</li>'}</ul>"
             f"<h2>Comparison</h2><ul><li><a href='comparison.html'>Trends across bodies</a></li>"

@@ -13,6 +13,7 @@ from blocwatch.pipeline.cli.common import (
     handle_errors,
     progress,
     resolve_store,
+    single_file_option,
     source,
     store_option,
     wait_option,
@@ -68,10 +69,11 @@ def build(ctx, store_path, body, jobs, executor, scheduler, partitions, **flags)
               help="Rewrite the report after recomputing.")
 @click.option("--images/--no-images", default=False, show_default=True,
               help="Also write PNG and SVG with the report (needs Chromium or Chrome).")
+@single_file_option
 @build_flags
 @click.pass_context
 @handle_errors
-def rebuild(ctx, store_path, body, full, out, with_report, images, **flags):
+def rebuild(ctx, store_path, body, full, out, with_report, images, single_file, **flags):
     """Load new or changed source files, recompute the stale periods, rewrite the report.
 
     Files come from the [bodies] tables of blocwatch.toml. With nothing new it writes nothing
@@ -85,8 +87,8 @@ def rebuild(ctx, store_path, body, full, out, with_report, images, **flags):
     cfg = current_config()
     store = resolve_store(store_path)
     out_dir = Path(out) if out else default_output(cfg)
-    write = report_writer(store, body=body, images=images, colours=group_colours(cfg)) \
-        if with_report else None
+    write = report_writer(store, body=body, images=images, colours=group_colours(cfg),
+                          single_file=single_file) if with_report else None
     result = run_rebuild(store, options=opts, config=cfg, body=body, full=full,
                          out=out_dir if with_report else None, write_outputs=write,
                          progress=progress(ctx, "rebuild"))

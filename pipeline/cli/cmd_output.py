@@ -13,6 +13,7 @@ from blocwatch.pipeline.cli.common import (
     handle_errors,
     progress,
     resolve_store,
+    single_file_option,
     store_option,
     wait_option,
 )
@@ -67,16 +68,18 @@ def metrics(fmt):
                    "each change point).")
 @click.option("--images/--no-images", default=False, show_default=True,
               help="Also write PNG and SVG (needs Chromium or Chrome).")
+@single_file_option
 @wait_option
 @handle_errors
-def report(store_path, body, out, periods, images, wait):
+def report(store_path, body, out, periods, images, single_file, wait):
     """Write the briefing pages, comparison page and embeddable pieces."""
     from blocwatch.pipeline.config import group_colours
     from blocwatch.pipeline.report.write import write_report
 
     paths = write_report(resolve_store(store_path), Path(out), body=body,
                          periods=periods.split(",") if periods else None, images=images,
-                         colours=group_colours(current_config()), wait=wait)
+                         colours=group_colours(current_config()), wait=wait,
+                         single_file=single_file)
     for path in paths:
         if path.suffix == ".html" and path.parent == Path(out):
             click.echo(f"page: {path}")

@@ -51,6 +51,15 @@ def store_option(func):
                         default=None, help=STORE_HELP)(func)
 
 
+def single_file_option(func):
+    """``--single-file``: every report page carries plotly.js instead of sharing one file."""
+    return click.option(
+        "--single-file", is_flag=True, default=False,
+        help="Put the charting library inside every page (several MB each) so one page "
+             "stands alone, e.g. to send by mail; default: one plotly.min.js in the report "
+             "folder, loaded by every page.")(func)
+
+
 def wait_option(func):
     """``--wait SECONDS`` of the commands that only read the store."""
     from blocwatch.pipeline.ops.readers import DEFAULT_WAIT

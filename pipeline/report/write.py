@@ -17,12 +17,13 @@ from blocwatch.pipeline.store.database import Store
 def write_report(store_path: str | Path, out: str | Path, *, body: str | None = None,
                  periods: list[str] | None = None, images: bool = False,
                  colours: dict[str, str] | None = None,
-                 wait: float | None = None) -> list[Path]:
+                 wait: float | None = None, single_file: bool = False) -> list[Path]:
     """Write the pages, embeddable pieces (and with ``images`` PNG/SVG) of the store's results
     into ``out``; return the paths written.
 
     ``periods``: the periods drawn as networks (default: first, last and each change point);
     ``colours``: group name -> CSS colour overrides (the config's ``[colours]`` table);
+    ``single_file``: every page carries plotly.js inline (default: one file in ``out``);
     ``wait``: seconds to wait for a run holding the store (the CLI's ``--wait``), or None when
     the caller holds the store's lock itself (rebuild, demo) and the store is opened directly.
     """
@@ -34,11 +35,13 @@ def write_report(store_path: str | Path, out: str | Path, *, body: str | None = 
     with opened as store:
         frames = report_frames(store, body=body, periods=periods)
     tables = ReportTables(**frames, colours=dict(colours or {}))
-    return write_pages(Path(out), tables, periods=periods, images=images)
+    return write_pages(Path(out), tables, periods=periods, images=images,
+                       single_file=single_file)
 
 
 def report_writer(store_path: str | Path, *, body: str | None = None, images: bool = False,
-                  colours: dict[str, str] | None = None) -> Callable[[Path], list[Path]]:
+                  colours: dict[str, str] | None = None,
+                  single_file: bool = False) -> Callable[[Path], list[Path]]:
     """:func:`write_report` for a folder named later (a rebuild writes into a staging folder)."""
     return lambda folder: write_report(store_path, folder, body=body, images=images,
-                                       colours=colours)
+                                       colours=colours, single_file=single_file)

@@ -98,6 +98,48 @@ def test_briefing_renders_every_chart_offline(site, browser):
     assert browser.errors() == []
 
 
+def test_folder_pages_share_one_library_file(site, browser):
+    # The folder's pages draw from the one plotly.min.js beside them (loaded from file://,
+    # the network blocked): the page itself does not carry the library.
+    out, _ = site
+    page = out / BRIEFING
+    assert plotly_js()[:200] not in page.read_text()
+    load(browser, page)
+    assert browser.eval("typeof Plotly") == "object"
+    assert browser.eval("window.__bwRendered") == browser.eval("window.__bwCharts") > 5
+    assert browser.eval("document.querySelector('script[src]').src") == \
+        (out / "plotly.min.js").as_uri()
+    assert browser.blocked == [] and browser.errors() == []
+
+
+def test_single_file_page_stands_alone(browser, tmp_path):
+    # --single-file: one page copied on its own to an empty folder still draws every chart.
+    write_report(tmp_path / "site", make_tables(evil=True), images=False, single_file=True)
+    alone = tmp_path / "mail" / BRIEFING
+    alone.parent.mkdir()
+    shutil.copy(tmp_path / "site" / BRIEFING, alone)
+    load(browser, alone)
+    assert browser.eval("window.__bwErrors") == []
+    assert browser.eval("window.__bwRendered") == browser.eval("window.__bwCharts") > 5
+    assert browser.blocked == [] and browser.errors() == []
+
+
+def test_folder_page_without_its_library_says_so(site, browser, tmp_path):
+    # A folder page copied away from plotly.min.js keeps its text and tables and puts a
+    # message where each chart would be, instead of failing silently.
+    out, _ = site
+    shutil.copy(out / BRIEFING, tmp_path / BRIEFING)
+    browser.events.clear()
+    browser.open((tmp_path / BRIEFING).as_uri())
+    browser.wait_for("window.__bwErrors !== undefined && window.__bwErrors.length > 0")
+    n = browser.eval("window.__bwCharts")
+    texts = browser.eval("Array.from(document.querySelectorAll('div[data-bw-spec]'))"
+                         ".map(function (d) { return d.textContent; })")
+    assert len(texts) == n > 5
+    assert all(t.startswith("Chart not drawn") and "--single-file" in t for t in texts)
+    assert browser.eval("document.querySelectorAll('details table').length") >= n
+
+
 def test_hostile_names_are_text_and_run_nothing(site, browser):
     out, _ = site
     load(browser, out / BRIEFING)

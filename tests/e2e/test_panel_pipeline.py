@@ -76,6 +76,13 @@ def test_panel_demo_end_to_end(run_cli, tmp_path, panel):
     pages = list((tmp_path / "report").rglob("*.html"))
     assert pages and "page:" in report.stdout
     assert any(panel.body in p.read_text(encoding="utf-8") for p in pages)
+    # The folder carries plotly.js once; --single-file puts it inside each page instead.
+    library = (tmp_path / "report" / "plotly.min.js").stat().st_size
+    top = [p for p in pages if p.parent == tmp_path / "report" and p.name != "index.html"]
+    assert all(p.stat().st_size < library / 5 for p in top)
+    run_cli("report", "--store", "panel.duckdb", "--out", "alone", "--single-file", check=True)
+    assert not (tmp_path / "alone" / "plotly.min.js").exists()
+    assert all((tmp_path / "alone" / p.name).stat().st_size > library for p in top)
 
 
 def test_stored_agreement_is_one_minus_scaled_distance(run_cli, tmp_path, panel):

@@ -7,7 +7,7 @@ import pandas as pd
 import pytest
 
 from blocwatch.dashboards.errors import ImageExportUnavailable, ReportInputError
-from blocwatch.dashboards.html import plotly_js
+from blocwatch.dashboards.html import PLOTLY_BUNDLE, plotly_js
 from blocwatch.dashboards.report import body_slugs, write_report
 from blocwatch.dashboards.safe import esc as html_text
 from blocwatch.dashboards.tables import ReportTables
@@ -44,18 +44,41 @@ def test_file_names_are_stable_and_all_returned(report):
     assert not any(p.suffix in (".png", ".svg") for p in paths)  # images=False
 
 
-def test_pages_are_offline_and_carry_plotly_once(report):
-    out, _, _ = report
+def test_pages_load_the_folders_one_plotly_file(report):
+    out, _, paths = report
+    bundle = out / "plotly.min.js"
+    assert bundle in paths and bundle.read_bytes() == PLOTLY_BUNDLE.read_bytes()
     bundle_head = plotly_js()[:200]
     for page in ("briefing-harbour-board-of-veldmark.html", "comparison.html"):
         html = (out / page).read_text()
-        assert html.count(bundle_head) == 1
-        # Our own markup links nowhere off the page (the bundle's own strings, e.g. its
-        # unused logo link, are not loads; the browser test checks actual requests).
-        ours = html.replace(plotly_js(), "")
-        assert not re.search(r"""(src|href)\s*=\s*["']?(https?:)?//""", ours)
+        assert bundle_head not in html  # the library is not copied into the page
+        assert re.findall(r"<script src='([^']*)'>", html) == ["plotly.min.js"]
+        # Our own markup links nowhere off the page.
+        assert not re.search(r"""(src|href)\s*=\s*["']?(https?:)?//""", html)
         assert "default-src 'none'" in html and "connect-src 'none'" in html
-        assert len(re.findall(r"<script>", html)) == 2  # plotly.js + renderer, nothing else
+        assert "script-src 'self' 'sha256-" in html  # the file by origin, the renderer by hash
+        assert len(re.findall(r"<script>", html)) == 1  # the renderer, nothing else inline
+    # A page of the folder is a small fraction of the library it loads.
+    page_bytes = (out / "briefing-harbour-board-of-veldmark.html").stat().st_size
+    assert page_bytes < bundle.stat().st_size / 5
+    assert "plotly.min.js" in (out / "index.html").read_text()
+
+
+def test_single_file_pages_carry_plotly_once_inline(tmp_path):
+    paths = write_report(tmp_path, make_tables(), images=False, single_file=True)
+    assert not (tmp_path / "plotly.min.js").exists() and all(
+        p.name != "plotly.min.js" for p in paths)
+    bundle_head = plotly_js()[:200]
+    for page in ("briefing-harbour-board-of-veldmark.html", "comparison.html"):
+        html = (tmp_path / page).read_text()
+        assert html.count(bundle_head) == 1
+        assert "<script src=" not in html
+        ours = html.replace(plotly_js(), "")
+        # The bundle's own strings (e.g. its unused logo link) are not loads; the browser test
+        # checks actual requests.
+        assert not re.search(r"""(src|href)\s*=\s*["']?(https?:)?//""", ours)
+        assert "'self'" not in html  # nothing is allowed from outside the page
+        assert len(re.findall(r"<script>", html)) == 2  # plotly.js + renderer
 
 
 def test_user_strings_never_appear_raw(report):
@@ -190,3 +213,16 @@ def test_odd_values_do_not_crash(tmp_path):
     spec = json.loads((tmp_path / "embed/harbour-board-of-veldmark/network-2001.json").read_text())
     names = [tr["name"] for tr in spec["data"] if tr.get("mode") == "markers"]
     assert "no group" in names  # the stranger and the ungrouped members
+
+
+def test_folder_is_much_smaller_than_single_file_pages(report, tmp_path):
+    # Three pages draw charts here; the folder carries the library once instead of three times.
+    out, tables, _ = report
+    write_report(tmp_path, tables, images=False, single_file=True)
+
+    def size(folder):
+        return sum(p.stat().st_size for p in folder.rglob("*") if p.is_file())
+
+    library = PLOTLY_BUNDLE.stat().st_size
+    assert size(tmp_path) - size(out) > 1.9 * library  # two copies fewer (of three)
+    assert size(out) < 0.5 * size(tmp_path)
