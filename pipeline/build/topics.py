@@ -1,17 +1,19 @@
 """Per-topic and agenda-standardised series of one period (bodies whose ballots carry topics).
 
 For each topic with at least ``min_topic_ballots`` counted ballots in the period the headline
-families (:data:`SUBSET_FAMILIES`) are computed on that topic's ballots alone (subset
-``topic:<name>``); a topic with fewer gets a row per metric with no value and a note. The
-agenda-standardised series (subset ``agenda-standardised``) computes the same families on the
-directly standardised agreement (:func:`blocwatch.metrics.agenda.standardise_agreement`): each
-pair's agreement is the mean of its per-topic agreements weighted by the body's reference topic
-mix, so a change that only comes from the agenda's make-up leaves it flat.
+families (:data:`SUBSET_FAMILIES`, plus the costly :data:`TOPIC_FAMILIES`) are computed on that
+topic's ballots alone (subset ``topic:<name>``); a topic with fewer gets a row per metric with
+no value and a note. The agenda-standardised series (subset ``agenda-standardised``) computes
+the cheap families on the directly standardised agreement
+(:func:`blocwatch.metrics.agenda.standardise_agreement`): each pair's agreement is the mean of
+its per-topic agreements weighted by the body's reference topic mix, so a change that only
+comes from the agenda's make-up leaves it flat.
 
 Intervals come from one stratified bootstrap: every replicate resamples ballots within each
 topic (the topic mix stays the period's own), and the same replicate gives the per-topic values
-and, through their agreement matrices, the standardised one. Ballots without a topic form the
-stratum ``(none)``; it counts like any topic.
+and, through their agreement matrices, the standardised one. The costly families run on the
+first ``expensive_replicates`` replicates only, as for the whole period. Ballots without a
+topic form the stratum ``(none)``; it counts like any topic.
 """
 
 from __future__ import annotations
@@ -31,6 +33,8 @@ from blocwatch.pipeline.options import NO_TOPIC, parse_rule
 # The families computed per subset: the cheap headline ones that read only the agreement and
 # the graph (the standardised series has agreement, not votes).
 SUBSET_FAMILIES = ("modularity", "crossgroup")
+# Costly families computed per topic too (not standardised: they need votes or fit per call).
+TOPIC_FAMILIES = ("separability", "louvain")
 STANDARDISED = "agenda-standardised"
 # The topics with enough ballots in a period must carry at least this share of the reference
 # mix, else the period gets no standardised figure (it would stand for a few topics only).
@@ -41,8 +45,8 @@ OUTSIDE_NOTE = ("the estimate lies outside its bootstrap interval: resampled bal
                 "rough")
 
 
-def subset_metric_names() -> list[str]:
-    return [m for f in SUBSET_FAMILIES for m in FAMILIES[f].metrics]
+def subset_metric_names(families=SUBSET_FAMILIES + TOPIC_FAMILIES) -> list[str]:
+    return [m for f in families for m in FAMILIES[f].metrics]
 
 
 def ballot_topics(topics: np.ndarray) -> np.ndarray:
@@ -70,14 +74,15 @@ def subset_rows(vm, labels: np.ndarray, opts, seed: int,
     metrics = subset_metric_names()
     cols = {t: np.flatnonzero(topics == t) for t in enough}
 
-    def one(weights: np.ndarray | None) -> tuple[dict, dict]:
+    def one(weights: np.ndarray | None, costly: bool = True) -> tuple[dict, dict]:
         """Values per topic and their agreement matrices, for one (re)weighting."""
         values, agreements = {}, {}
+        families = list(SUBSET_FAMILIES + (TOPIC_FAMILIES if costly else ()))
         for t in enough:
             w = None if weights is None else weights[cols[t]]
             scales = None if vm.scales is None else vm.scales.subset(slice(None), cols[t])
             inp = make_input(vm.votes[:, cols[t]], labels, opts, seed, weights=w, scales=scales)
-            values[t] = compute_all(inp, families=list(SUBSET_FAMILIES))
+            values[t] = compute_all(inp, families=families)
             agreements[t] = inp.agreement
         return values, agreements
 
@@ -104,11 +109,12 @@ def subset_rows(vm, labels: np.ndarray, opts, seed: int,
     if opts.bootstrap > 0 and enough:
         w = stratified_ballot_weights(topics, opts.bootstrap, seed=seed)
         for r in range(opts.bootstrap):
-            rep, rep_agreements = one(w[r])
+            rep, rep_agreements = one(w[r], costly=r < opts.expensive_replicates)
             rep[STANDARDISED] = standardised(rep_agreements)
             for key, vals in rep.items():
                 samples[key][r] = [vals[m].value if m in vals and vals[m].ok else np.nan
                                    for m in metrics]
+    costly_metrics = set(subset_metric_names(TOPIC_FAMILIES))
     rows = []
     for t in names:
         for j, m in enumerate(metrics):
@@ -117,13 +123,18 @@ def subset_rows(vm, labels: np.ndarray, opts, seed: int,
                              f"only {counts[t]} counted ballot(s) on this topic in this period "
                              f"(minimum {opts.min_topic_ballots}): no figure"])
                 continue
-            rows.append(_row(f"topic:{t}", m, values[t].get(m), samples[t][:, j], counts[t]))
+            sample = samples[t][:, j]
+            if m in costly_metrics:  # ran on the first expensive_replicates replicates only
+                sample = sample[:opts.expensive_replicates]
+            rows.append(_row(f"topic:{t}", m, values[t].get(m), sample, counts[t]))
     if reference:
         missing = sorted(t for t in reference if t not in used)
         why = (f"; topics of the reference mix without enough ballots here, their weight spread "
                f"over the others: {', '.join(missing)}") if missing and used else ""
         n_used = sum(counts[t] for t in used)
         for j, m in enumerate(metrics):
+            if m in costly_metrics:
+                continue  # standardised agreement has no votes to fit or resample
             if not used:
                 rows.append([STANDARDISED, m, np.nan, np.nan, np.nan, 0, "the topics with "
                              f"{opts.min_topic_ballots}+ ballots here carry "

@@ -99,6 +99,42 @@ def test_agenda_shift_raises_raw_but_not_standardised(shifted):
     assert (_series(frame, "topic:roads")["value"] < divisive["value"]).all()
 
 
+def test_costly_families_per_topic_tell_the_divisive_topic_apart(shifted):
+    # Built in: on 'budget' members vote their group's line (10 % defection), on 'roads' at
+    # random. So each period the budget ballots alone place members in their group almost
+    # perfectly (separability near 1, communities equal to the groups), the roads ballots no
+    # better than chance (1/2 for two groups; ARI about 0). Planted-truth bounds, not fits.
+    frame, _ = shifted
+    sep_b = _series(frame, "topic:budget", "separability")["value"]
+    sep_r = _series(frame, "topic:roads", "separability")["value"]
+    ari_b = _series(frame, "topic:budget", "community_group_ari")["value"]
+    ari_r = _series(frame, "topic:roads", "community_group_ari")["value"]
+    assert len(sep_b) == len(ari_r) == len(YEARS)
+    assert (sep_b > 0.9).all() and (ari_b > 0.8).all()
+    assert (sep_r < 0.8).all() and (ari_r < 0.3).all()
+    assert (_series(frame, "topic:budget", "silhouette")["value"]
+            > _series(frame, "topic:roads", "silhouette")["value"]).all()
+    # The standardised series has agreement only: no costly family there.
+    std = frame[frame["subset"] == "agenda-standardised"]
+    assert not std["metric"].isin(["separability", "silhouette", "community_group_ari"]).any()
+
+
+def test_costly_topic_intervals_use_the_capped_replicates(tmp_path):
+    # 25 replicates, the costly families capped at 20 (the fewest that give an interval,
+    # metrics.intervals.MIN_REPLICATES): their per-topic rows carry intervals too.
+    ballots = {y: [(f"{y}-{k:03d}", "budget" if k % 2 else "roads") for k in range(40)]
+               for y in YEARS}
+    _write_body(tmp_path / "v.csv", {"L": 8, "R": 8}, ballots, _shift_vote)
+    with Store(tmp_path / "s.duckdb") as store:
+        ingest_files(store, [tmp_path / "v.csv"], body="Capped")
+        build(store, options=BuildOptions(bootstrap=25, permutations=0,
+                                          expensive_replicates=20))
+        frame = export_frame(store, "metrics", body="Capped")
+    rows = frame[(frame["subset"] == "topic:budget") & (frame["metric"] == "separability")]
+    assert len(rows) == len(YEARS) and rows["low"].notna().all()
+    assert (rows["low"] <= rows["high"]).all()
+
+
 def test_every_estimate_lies_in_its_interval_or_says_why(shifted):
     frame, _ = shifted
     rows = frame[frame["subset"] != "all"].dropna(subset=["value", "low", "high"])
