@@ -26,8 +26,11 @@ _EXPORTS = {  # public name -> (module, name there)
     "ingest_files": ("blocwatch.pipeline.ingest.load", "ingest_files"),
     "locked_store": ("blocwatch.pipeline.ops.lock", "locked_store"),
     "rebuild": ("blocwatch.pipeline.ops.rebuild", "rebuild"),
+    "rebuild_with_report": ("blocwatch.pipeline.ops.rebuild", "rebuild_with_report"),
+    "run_demo": ("blocwatch.pipeline.demo.run", "run_demo"),
     "status": ("blocwatch.pipeline.ops.status", "status"),
     "write_frame": ("blocwatch.pipeline.report.export", "write_frame"),
+    "write_report": ("blocwatch.pipeline.report.write", "write_report"),
 }
 
 __all__ = sorted(_EXPORTS)

@@ -79,19 +79,21 @@ def rebuild(ctx, store_path, body, full, out, with_report, images, single_file, 
     Files come from the [bodies] tables of blocwatch.toml. With nothing new it writes nothing
     and says so. Exits 75 when another run holds the store's lock.
     """
-    from blocwatch.pipeline.config import default_output, group_colours
+    from blocwatch.pipeline.config import default_output
     from blocwatch.pipeline.ops.rebuild import rebuild as run_rebuild
-    from blocwatch.pipeline.report.write import report_writer
+    from blocwatch.pipeline.ops.rebuild import rebuild_with_report
 
     opts = options.build_options(**flags)
     cfg = current_config()
     store = resolve_store(store_path)
     out_dir = Path(out) if out else default_output(cfg)
-    write = report_writer(store, body=body, images=images, colours=group_colours(cfg),
-                          single_file=single_file) if with_report else None
-    result = run_rebuild(store, options=opts, config=cfg, body=body, full=full,
-                         out=out_dir if with_report else None, write_outputs=write,
-                         progress=progress(ctx, "rebuild"))
+    if with_report:
+        result = rebuild_with_report(store, out_dir, options=opts, config=cfg, body=body,
+                                     full=full, images=images, single_file=single_file,
+                                     progress=progress(ctx, "rebuild"))
+    else:
+        result = run_rebuild(store, options=opts, config=cfg, body=body, full=full,
+                             progress=progress(ctx, "rebuild"))
     for line in result.load_lines():
         click.echo(line)
     for note in result.notes:

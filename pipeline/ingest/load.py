@@ -276,7 +276,11 @@ class _Load:
         bal = conflicts.resolve_ballots(store, ballot_tables, file_ballots[0] if file_ballots
                                         else None, self.staged, replace=self.replace,
                                         problems=problems)
-        spells, spell_members = memberships.check(self, votes, combined, bal)
+        inputs = memberships.SpellInputs(
+            store, problems, self.staged,
+            sorted({b for k in self.staged for b in self.results[k].bodies}),
+            self.bad_members, self.replace, self.notes)
+        spells, spell_members = memberships.check(inputs, votes, combined, bal)
         if combined and not self.replace and self._stored_votes():
             conflicts.store_conflicts(store, combined, self.staged, problems)
         self._counts(votes, bal)

@@ -3,8 +3,9 @@
 The spells themselves (reading a roster, deriving spells from a group column, merging) are
 computed by :mod:`blocwatch.pipeline.ingest.roster`; this module decides among them for one load.
 
-Called by :mod:`blocwatch.pipeline.ingest.load` with the load in progress (``load``: its store,
-problems, staged files and options). Groups come from the roster when there is one (a group
+Called by :mod:`blocwatch.pipeline.ingest.load` with a :class:`SpellInputs`: what of the load
+in progress these checks read (its store, problems, staged files, bodies and options) and
+where they write (problems, notes). Groups come from the roster when there is one (a group
 column must then agree with it), else from a group column, else from the memberships already
 stored. Once a body has groups, every member in the votes needs one, and every cast vote must
 fall inside one of the member's spells.
@@ -12,23 +13,51 @@ fall inside one of the member's spells.
 
 from __future__ import annotations
 
+from dataclasses import dataclass, field
+
 import pandas as pd
 
 from blocwatch.pipeline.ingest import roster
 from blocwatch.pipeline.ingest.readers import Staged
-from blocwatch.pipeline.ingest.validate import EXAMPLES, add_rest, add_row_problem, staged_unit
+from blocwatch.pipeline.ingest.validate import (
+    EXAMPLES,
+    Problems,
+    add_rest,
+    add_row_problem,
+    staged_unit,
+)
 from blocwatch.pipeline.safety import show
+from blocwatch.pipeline.store.database import Store
 
 _K = 1 << 40  # packs (file k, row) into one sortable BIGINT
 MEMBER_DAY = "member-date"  # the unit of a group problem: one member on one date
 
 
-def check(load, votes: dict[int, Staged], combined: str | None, bal: str):
+@dataclass
+class SpellInputs:
+    """The part of a load the membership checks see: read ``store``, ``staged`` (file number
+    -> staged file), ``bodies`` (every body the staged files name), ``bad_members`` (roster rows
+    already refused: no follow-up complaints) and ``replace``; add to ``problems`` and
+    ``notes``."""
+
+    store: Store
+    problems: Problems
+    staged: dict[int, Staged]
+    bodies: list[str]
+    bad_members: set[str] = field(default_factory=set)
+    replace: bool = False
+    notes: list[str] = field(default_factory=list)
+
+    def of(self, kind: str) -> dict[int, Staged]:
+        """The staged files of one kind (votes, roster, ballots)."""
+        return {k: s for k, s in self.staged.items() if s.kind == kind}
+
+
+def check(load: SpellInputs, votes: dict[int, Staged], combined: str | None, bal: str):
     """The spells to write, and the (body, member) pairs whose stored spells they replace."""
     store, problems = load.store, load.problems
     rosters = load.of("roster")
-    bodies = sorted({b for k in load.staged for b in load.results[k].bodies})
-    stored = roster.stored_spells(store, bodies)
+    stored = roster.stored_spells(store, load.bodies)
     new_roster = pd.concat([roster.roster_spells(store, s, problems, load.bad_members)
                             .assign(k=k) for k, s in rosters.items()]) if rosters else None
     grouped = {k: s for k, s in votes.items() if "group_name" in s.headers}

@@ -159,3 +159,26 @@ def rebuild(store_path: str | Path, *, options: BuildOptions | None = None,
                 full or not outputs_current(out, newest)):
             report.outputs = swap_outputs(out, write_outputs, newest)
     return report
+
+
+def rebuild_with_report(store_path: str | Path, out: str | Path | None = None, *,
+                        options: BuildOptions | None = None, config: Config | None = None,
+                        body: str | None = None, full: bool = False, images: bool = False,
+                        single_file: bool = False,
+                        progress: Callable[[str], None] | None = None) -> RebuildReport:
+    """:func:`rebuild`, then the report into ``out`` (default: the config's ``output``, else
+    ``./blocwatch-report``) when the folder does not show the store's newest results.
+
+    The report is drawn with the config's ``[colours]``; ``images`` adds PNG and SVG;
+    ``single_file`` puts the chart library inside every page. This is
+    what ``blocwatch rebuild`` runs (``--no-report`` calls :func:`rebuild` alone).
+    """
+    from blocwatch.pipeline.config import default_output, group_colours
+    from blocwatch.pipeline.report.write import report_writer
+
+    cfg = config or read_config()
+    folder = Path(out) if out is not None else default_output(cfg)
+    write = report_writer(store_path, body=body, images=images, colours=group_colours(cfg),
+                          single_file=single_file)
+    return rebuild(store_path, options=options, config=cfg, body=body, full=full, out=folder,
+                   write_outputs=write, progress=progress)

@@ -37,3 +37,18 @@ def test_importing_the_package_loads_no_heavy_module():
     out = subprocess.run([sys.executable, "-c", code], check=True, capture_output=True,
                          text=True, timeout=120).stdout
     assert "duckdb" in set(json.loads(out))
+
+
+def test_the_readme_python_example_uses_the_public_api():
+    """Every name the README's "From Python" section takes from blocwatch.pipeline is in
+    __all__, and every name of __all__ is mentioned there."""
+    import re
+    from pathlib import Path
+
+    readme = (Path(__file__).resolve().parents[3] / "README.md").read_text(encoding="utf-8")
+    section = readme.split("## From Python", 1)[1].split("\n## ", 1)[0]
+    imported = re.search(r"from blocwatch\.pipeline import \(?([^)]*?)\)?\n\n", section,
+                         re.S).group(1)
+    names = {n.strip() for n in imported.replace("\n", " ").split(",") if n.strip()}
+    assert names and names <= set(api.__all__), names - set(api.__all__)
+    assert [n for n in api.__all__ if f"`{n}" not in section and n not in names] == []

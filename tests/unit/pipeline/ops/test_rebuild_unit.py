@@ -10,7 +10,13 @@ import json
 import pytest
 
 from blocwatch.pipeline.config import Config
-from blocwatch.pipeline.ops.rebuild import MARKER, outputs_current, rebuild, swap_outputs
+from blocwatch.pipeline.ops.rebuild import (
+    MARKER,
+    outputs_current,
+    rebuild,
+    rebuild_with_report,
+    swap_outputs,
+)
 from blocwatch.pipeline.ops.sources import file_sha256, scan_sources
 from blocwatch.pipeline.store.database import Store
 from tests import toy_rollcall as toy
@@ -89,3 +95,18 @@ def test_outputs_are_swapped_in_whole_with_the_run_they_show(tmp_path):
     assert json.loads((out / MARKER).read_text(encoding="utf-8")) == {"run": 7}
     assert outputs_current(out, 7) and not outputs_current(out, 8)
     assert list(tmp_path.glob(".report.*")) == []  # no staging folder left behind
+
+
+def test_rebuild_with_report_writes_the_report_once_per_new_result(project):
+    """The library call behind 'blocwatch rebuild': the report lands in the config's output
+    folder (relative to blocwatch.toml) with the run it shows, and is not rewritten while the
+    store holds nothing newer."""
+    tmp_path, cfg = project
+    cfg = Config(cfg.path, {**cfg.data, "output": "site"})
+    first = rebuild_with_report(tmp_path / "s.duckdb", options=toy.fast_options(), config=cfg)
+    out = tmp_path / "site"
+    pages = [p for p in first.outputs if p.suffix == ".html" and p.parent == out]
+    assert pages and all(p.is_file() for p in pages)
+    assert json.loads((out / MARKER).read_text(encoding="utf-8")) == {"run": first.build.run_id}
+    again = rebuild_with_report(tmp_path / "s.duckdb", options=toy.fast_options(), config=cfg)
+    assert again.nothing_to_do and again.outputs == []
