@@ -27,8 +27,6 @@ import re
 from collections.abc import Iterable
 from pathlib import Path
 
-import pandas as pd
-
 from blocwatch.pipeline.errors import BadInputError, UsageError
 from blocwatch.pipeline.safety import show
 
@@ -95,14 +93,6 @@ def resolve(raws: Iterable[object], mapping: dict[str, str] | None = None
         else:
             known[raw] = choice
     return known, unknown
-
-
-def code_table(mapping: dict[str, str] | None = None) -> pd.DataFrame:
-    """Every known normalised code with its choice and where it comes from (for docs and tests)."""
-    rows = {code: (choice, "built-in") for code, choice in BUILTIN.items()}
-    rows.update({code: (choice, "mapping") for code, choice in (mapping or {}).items()})
-    return pd.DataFrame([(c, ch, src) for c, (ch, src) in sorted(rows.items())],
-                        columns=["code", "choice", "source"])
 
 
 def load_mapping(path: str | Path) -> dict[str, str]:

@@ -24,8 +24,7 @@ from blocwatch.pipeline.ops.sources import scan_sources
 from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.store.bodies import close_matches
 from blocwatch.pipeline.store.database import Store
-
-BUILD_COMMANDS = ("build", "rebuild", "demo")  # runs that write results
+from blocwatch.pipeline.store.results import BUILD_COMMANDS
 
 
 @dataclass

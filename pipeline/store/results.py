@@ -19,7 +19,7 @@ RESULT_TABLES = ("period_metrics", "member_metrics", "group_agreement", "subset_
 # The metric list (blocwatch.pipeline.report.metric_list.COLUMNS) as the build stored it.
 MEASURE_FRAME = ["metric", "family", "label", "direction", "description", "formula",
                  "reference", "checks"]
-BUILD_COMMANDS = ("build", "rebuild", "demo")
+BUILD_COMMANDS = ("build", "rebuild", "demo")  # runs that write results
 
 # Column order of each export, a contract with users' scripts: add columns at the end, never
 # rename (README, "Commands").

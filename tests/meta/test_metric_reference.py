@@ -7,7 +7,6 @@ one, or with an empty field, fails here rather than reaching a page as a bare na
 import re
 from pathlib import Path
 
-import blocwatch.metrics  # noqa: F401  (registers every family)
 from blocwatch.metrics.reference import METRIC_INFO
 from blocwatch.metrics.registry import metric_info, metric_names
 

@@ -6,7 +6,6 @@ import re
 import numpy as np
 import pandas as pd
 
-import blocwatch.metrics  # noqa: F401  (registers every family)
 from blocwatch.dashboards import labels, palette
 from blocwatch.dashboards.briefing import build_briefing
 from blocwatch.dashboards.safe import esc

@@ -22,7 +22,6 @@ import math
 import numpy as np
 import pytest
 
-import blocwatch.metrics  # noqa: F401  (registers every family)
 from blocwatch.metrics.registry import (
     ABSTAIN,
     FAMILIES,

@@ -11,7 +11,6 @@ from blocwatch.pipeline.ingest.codes import (
     CHOICES,
     ambiguity,
     choice_of,
-    code_table,
     load_mapping,
     normalise,
     resolve,
@@ -77,9 +76,6 @@ def test_mapping_wins_over_the_builtin_table(tmp_path):
     assert mapping == {"present": "yes", "ja": "yes", "nein": "no"}
     assert choice_of("Present", mapping) == "yes" and choice_of("present") == "abstain"
     assert choice_of("Ja", mapping) == "yes"
-    table = code_table(mapping)
-    assert table.loc[table["code"] == "present", "source"].item() == "mapping"
-    assert len(table) == len(BUILTIN) + 2  # 'ja' and 'nein' are new, 'present' replaced
 
 
 def test_mapping_file_with_bom_blank_lines_and_extra_column_order(tmp_path):
