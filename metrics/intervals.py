@@ -48,7 +48,7 @@ def _family(metric: str):
 
 
 def metric_interval(metric: str, estimate, replicates, *, n_members: int,
-                    level: float = 0.95) -> MetricInterval:
+                    level: float = 0.95, member_se: float | None = None) -> MetricInterval:
     """The interval of ``metric`` and a note saying where it cannot be read at face value.
 
     Notes (the first two exclude each other; the last adds to either):
@@ -58,8 +58,12 @@ def metric_interval(metric: str, estimate, replicates, *, n_members: int,
       uncertainty rather than none existing (a perfect split, or a tiny body);
     - the estimate lies outside the interval: the resampling shifts this measure (the
       replicates centre away from it) — the note gives the replicates' median;
-    - the body has fewer than :data:`SMALL_BODY` members: ballots are resampled, members are
-      not, so the interval understates the uncertainty.
+    - the body has fewer than :data:`SMALL_BODY` members: resampling ballots leaves out who
+      sits on the body. With ``member_se`` (a delete-one-member jackknife standard error,
+      :func:`~blocwatch.metrics.resampling.jackknife_se`) each side of the interval is widened
+      by it in quadrature, ``θ̂ ∓ √(h² + (z·se)²)`` with h the side's ballot half-width, and
+      the note says so (or that the jackknife did not move the value either); without it
+      the note says the interval understates the uncertainty.
 
     >>> r = metric_interval("group_modularity", 0.3, np.full(50, 0.3), n_members=40)
     >>> (r.low, r.high), r.note.startswith("no spread")
@@ -78,6 +82,10 @@ def metric_interval(metric: str, estimate, replicates, *, n_members: int,
     method = fam.interval if fam is not None else "percentile"
     bounds = fam.bounds.get(metric) if fam is not None else None
     low, high = bootstrap_interval(estimate, finite, method=method, level=level, bounds=bounds)
+    widened = n_members < SMALL_BODY and member_se is not None and np.isfinite(member_se) \
+        and member_se > 0
+    if widened:
+        low, high = _with_members(float(estimate), low, high, member_se, level, bounds)
     tol = 1e-12 * max(1.0, abs(float(estimate)))
     notes = []
     if high - low <= tol:
@@ -90,7 +98,29 @@ def metric_interval(metric: str, estimate, replicates, *, n_members: int,
                f"the {_METHOD_NAMES[method]} interval corrects for that shift")
         notes.append(f"the estimate lies outside its interval: resampled ballots shift this "
                      f"measure (their median is {_number(float(np.median(finite)))}); {how}")
-    if n_members < SMALL_BODY:
+    if widened:
+        notes.append(f"only {n_members} members: the interval adds to the resampled ballots "
+                     f"the spread of leaving out one member at a time (jackknife); with so few "
+                     f"members read it as rough")
+    elif n_members < SMALL_BODY and member_se == 0:
+        notes.append(f"only {n_members} members: leaving out one member at a time (jackknife) "
+                     f"did not move the value either, which with so few members is not "
+                     f"certainty")
+    elif n_members < SMALL_BODY:
         notes.append(f"only {n_members} members: the interval resamples ballots, not members, "
                      f"and understates the uncertainty")
     return MetricInterval(low, high, "; ".join(notes))
+
+
+def _with_members(estimate: float, low: float, high: float, member_se: float, level: float,
+                  bounds) -> tuple[float, float]:
+    """Each side of the ballot interval widened in quadrature by the member jackknife's
+    z·se (the two sources of uncertainty taken as independent), clipped to the bounds."""
+    from scipy.stats import norm  # local: scipy is a heavy import for the cheap paths
+
+    extra = float(norm.ppf(0.5 + level / 2)) * member_se
+    low = min(low, estimate - float(np.hypot(max(estimate - low, 0.0), extra)))
+    high = max(high, estimate + float(np.hypot(max(high - estimate, 0.0), extra)))
+    if bounds is not None:
+        low, high = (float(np.clip(v, bounds[0], bounds[1])) for v in (low, high))
+    return low, high

@@ -26,6 +26,7 @@ from blocwatch.pipeline.build.edges import EDGE_COLUMNS, strongest_pairs
 from blocwatch.pipeline.build.filters import filter_period
 from blocwatch.pipeline.build.fingerprint import fingerprint
 from blocwatch.pipeline.build.graphs import build_graph
+from blocwatch.pipeline.build.jackknife import member_jackknife_se
 from blocwatch.pipeline.build.left_out import left_out_rows
 from blocwatch.pipeline.build.matrices import VoteMatrix
 from blocwatch.pipeline.build.scored_agreement import scored_period_input
@@ -180,11 +181,14 @@ def compute_period(vm: VoteMatrix, opts: BuildOptions, version: str, *,
     replicates, pair_intervals = _bootstrap(vm, labels, opts, seed, names, families,
                                             fit=inp.ideal_points)
     nulls = permutation_nulls(inp, opts, seed, families=families)
+    # A small body: who sits on it matters as much as the agenda (widens its intervals).
+    member_se = member_jackknife_se(vm, labels, opts, seed, names, families, period_input)
     rows = []
     for m in names:
         v = values[m]
         value = v.value if v.ok else np.nan
-        iv = metric_interval(m, value, replicates.get(m, ()), n_members=inp.n)
+        iv = metric_interval(m, value, replicates.get(m, ()), n_members=inp.n,
+                             member_se=member_se.get(m))
         null = nulls.get(m, {})
         own = v.note if v.ok else explain_missing(v.note, cause)
         note = "; ".join(n for n in (own, iv.note) if n) or None

@@ -61,3 +61,29 @@ def test_too_few_replicates_give_no_interval():
     assert np.isnan(r.low) and np.isnan(r.high)
     assert f"only {MIN_REPLICATES - 1} of {reps.size} resamples" in r.note
     assert metric_interval("group_modularity", 0.3, [], n_members=40).note == ""
+
+
+def test_small_body_interval_widens_by_the_member_jackknife():
+    # Each side grows in quadrature by z·se (z = 1.96 for 95 %): a ballot half-width h and a
+    # member se s give √(h² + (1.96 s)²); the note names the jackknife.
+    reps = np.random.default_rng(1).normal(0.2, 0.02, 400)
+    base = metric_interval("group_modularity", 0.2, reps, n_members=9)
+    wide = metric_interval("group_modularity", 0.2, reps, n_members=9, member_se=0.05)
+    assert wide.low < base.low and wide.high > base.high
+    assert 0.2 - wide.low == pytest.approx(np.hypot(0.2 - base.low, 1.959964 * 0.05), rel=1e-5)
+    assert "only 9 members" in wide.note and "jackknife" in wide.note
+    # Larger bodies keep the ballot interval; a member se of 0 says the jackknife did not move.
+    big = metric_interval("group_modularity", 0.2, reps, n_members=40, member_se=0.05)
+    plain = metric_interval("group_modularity", 0.2, reps, n_members=40)
+    assert (big.low, big.high, big.note) == (plain.low, plain.high, plain.note)
+    flat = metric_interval("separability", 1.0, np.ones(100), n_members=8, member_se=0.0)
+    assert "no spread" in flat.note and "did not move the value either" in flat.note
+
+
+def test_member_widening_keeps_the_bounds_and_the_estimate_inside():
+    for k in range(30):
+        rng = np.random.default_rng(k)
+        est = float(rng.uniform(0.0, 1.0))
+        r = metric_interval("rice_mean", est, rng.normal(est, 0.05, 100), n_members=7,
+                            member_se=float(rng.uniform(0.01, 0.5)))
+        assert 0.0 <= r.low <= est <= r.high <= 1.0

@@ -12,6 +12,7 @@ from blocwatch.metrics import resampling
 from blocwatch.metrics.resampling import (
     ballot_weights,
     block_codes,
+    jackknife_se,
     percentile_interval,
     stable_seed,
 )
@@ -146,3 +147,16 @@ def test_bootstrap_interval_properties():
     assert np.isnan(resampling.bootstrap_interval(0.2, [np.nan], method="basic")[0])
     with pytest.raises(ValueError, match="method"):
         resampling.bootstrap_interval(0.2, reps, method="studentised")
+
+
+def test_jackknife_se_of_the_mean_is_the_standard_error():
+    # Known identity (Efron & Tibshirani 1993, §11.2): the jackknife SE of the sample mean is
+    # s/√n, which scipy.stats.sem computes.
+    from scipy import stats
+
+    x = np.random.default_rng(3).normal(2.0, 1.5, 25)
+    loo = (x.sum() - x) / (x.size - 1)
+    assert jackknife_se(loo) == pytest.approx(stats.sem(x), rel=1e-12)
+    assert jackknife_se(np.r_[loo, np.nan]) == pytest.approx(stats.sem(x), rel=1e-12)
+    assert np.isnan(jackknife_se([1.0, 2.0, np.nan]))  # fewer than 3 values: no estimate
+    assert jackknife_se([0.5] * 9) == 0.0
