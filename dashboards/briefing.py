@@ -28,7 +28,7 @@ from blocwatch.dashboards.trends import change_points, trend_chart
 from blocwatch.dashboards.verdict import MIN_BALLOTS, MIN_MEMBERS, opening
 
 TREND_COLUMNS = {"period": "Period", "value": "Value", "low": "Low", "high": "High",
-                 "null_mean": "Shuffled-group mean", "null_p": "Permutation p",
+                 "null_mean": "Shuffled-group mean", "null_p": "Permutation p (one-sided)",
                  "n_members": "Members",
                  "n_ballots": "Ballots", "change_point": "Change point", "note": "Note"}
 

@@ -26,6 +26,8 @@ class MetricInfo:
 # References of the page's own methods (trend test, change points); a measure's reference comes
 # with the stored metric list.
 REFS = {
+    "perm": "Phipson, B. & Smyth, G. K. (2010). Permutation p-values should never be zero. "
+            "Statistical Applications in Genetics and Molecular Biology 9(1), article 39.",
     "mk": "Mann, H. B. (1945). Nonparametric tests against trend. Econometrica 13, 245–259; "
           "Kendall, M. G. (1975). Rank Correlation Methods.",
     "sen": "Sen, P. K. (1968). Estimates of the regression coefficient based on Kendall's tau. "

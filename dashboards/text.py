@@ -31,6 +31,13 @@ EXTRA_METHODS = (
      "resampling showed no spread, which with few members or ballots is not certainty.", ""),
     ("Dotted lines", "the mean of the measure with group labels shuffled among the members "
      "present, group sizes kept: the level to expect if groups did not matter.", ""),
+    ("Permutation p", "the share of shuffles of the group labels (sizes kept, the graph "
+     "rebuilt for each) that look at least as divided as the real groups, counted as "
+     "(b + 1)/(m + 1) so it is never 0. The test is one-sided, in the direction that means more "
+     "division for that measure (higher group modularity and separability, lower cross-group "
+     "tie share): a small p says the groups split the votes more than chance would, and says "
+     "nothing about why. The exported z-score (null_z) is signed the same way: positive means "
+     "more split than chance, negative less.", labels.REFS["perm"]),
     ("Trend test", "Mann–Kendall test with Kendall's τ, and the Theil–Sen slope per period.",
      f"{labels.REFS['mk']} {labels.REFS['sen']}"),
     ("Change points", "penalised change-point detection (PELT) on each series.",

@@ -60,3 +60,13 @@ def test_directions_on_the_page_match_the_direction_given():
         assert expected in entry, name
     assert np.isin(["higher", "lower"], [labels.info(n, known).direction
                                          for n in metric_names()]).all()
+
+
+def test_methods_say_the_permutation_p_is_one_sided_toward_division():
+    # Issue 12: null_p is one-sided in each measure's direction of division and null_z is
+    # signed so that positive means more split than chance; the page must say both.
+    section = _page()
+    entry = section.split("<dt>Permutation p</dt>", 1)[1].split("</dd>", 1)[0]
+    assert "one-sided" in entry and "direction that means more division" in entry
+    assert "null_z" in entry and "positive means more split than chance" in entry
+    assert "Phipson" in entry  # the (b + 1)/(m + 1) rule's reference
