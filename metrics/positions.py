@@ -224,7 +224,7 @@ _IDEAL_METRICS = ("ideal_median_gap", "ideal_overlap", "ideal_bimodality")
 @register("positions", _IDEAL_METRICS, bounds={m: (0.0, math.inf) for m in _IDEAL_METRICS},
           expensive=True, direction={"ideal_median_gap": "higher", "ideal_overlap": "lower",
                                      "ideal_bimodality": "higher"},
-          interval="basic")
+          interval="normal")  # resampled fits shift ~2× the estimate's own bias (README)
 def _positions_family(inp: PeriodInput) -> dict[str, MetricValue]:
     """Median gap, overlap and bimodality of the period's probit ideal points (an EM fit per
     call, hence ``expensive``)."""
@@ -244,7 +244,7 @@ def _positions_family(inp: PeriodInput) -> dict[str, MetricValue]:
 
 
 @register("positions_mds", ("mds_median_gap",), bounds={"mds_median_gap": (0.0, math.inf)},
-          direction={"mds_median_gap": "higher"}, interval="basic")
+          direction={"mds_median_gap": "higher"}, interval="basic-log")  # shift ∝ size
 def _mds_family(inp: PeriodInput) -> dict[str, MetricValue]:
     """Median gap on the first classical-MDS axis of 1 − agreement (NaN pairs imputed)."""
     codes, k = normalise_labels(inp.labels)

@@ -13,10 +13,18 @@ import numpy as np
 import pandas as pd
 
 __all__ = ["ballot_weights", "block_codes", "percentile_interval", "bootstrap_interval",
-           "INTERVAL_METHODS", "jackknife_se", "stable_seed"]
+           "INTERVAL_METHODS", "INTERVAL_WORDS", "jackknife_se", "stable_seed"]
 
 # How an interval is read off the bootstrap replicates (see bootstrap_interval).
-INTERVAL_METHODS = ("percentile", "basic", "bc")
+INTERVAL_METHODS = ("percentile", "basic", "bc", "basic-log", "normal")
+# Each method in words with its reference (the exported metric list names every metric's).
+INTERVAL_WORDS = {
+    "percentile": "percentile (Efron & Tibshirani 1993, ch. 13)",
+    "basic": "basic, pivotal (Davison & Hinkley 1997, eq. 5.6)",
+    "bc": "bias-corrected percentile (Efron 1987)",
+    "basic-log": "basic on the log scale (Davison & Hinkley 1997, §5.2.1)",
+    "normal": "standard: estimate ± 1.96 × resample SD (Efron & Tibshirani 1993, §6.5)",
+}
 
 
 def ballot_weights(n_ballots: int, n_boot: int, *, seed, blocks=None) -> np.ndarray:
@@ -121,7 +129,8 @@ def bootstrap_interval(estimate, replicates, *, method: str = "percentile",
 
     A pure function of (estimate, replicates), so any way of forming replicates (ballot or
     block bootstrap, warm-started fits) composes with any method. NaN replicates are ignored;
-    ``(nan, nan)`` when none is finite (or, for "basic" and "bc", when the estimate is not).
+    ``(nan, nan)`` when none is finite (or, for every method but "percentile", when the
+    estimate is not).
     With q_p the p-quantile of the replicates θ*, α = 1 − level and z_p = Φ⁻¹(p):
 
     ``percentile``  (q_{α/2}, q_{1−α/2}).
@@ -132,6 +141,16 @@ def bootstrap_interval(estimate, replicates, *, method: str = "percentile",
                     z₀ = Φ⁻¹(#{θ* < θ̂} + ½#{θ* = θ̂}) / B): bias-corrected percentile, BCa
                     with acceleration 0 (Efron 1987). The share is kept inside
                     [1/(2B), 1 − 1/(2B)] so z₀ stays finite.
+
+    ``basic-log``   (θ̂²/q_{1−α/2}, θ̂²/q_{α/2}): the basic interval on the log scale, for a
+                    positive ratio whose resampling shift is proportional to its size
+                    (Davison & Hinkley 1997, §5.2.1, basic limits on a transformed scale).
+                    Needs θ̂ > 0 and positive replicates (others are left out).
+    ``normal``      θ̂ ± z_{1−α/2}·s with s the replicates' standard deviation: the standard
+                    interval, centred on the estimate. For statistics whose bootstrap shift is
+                    not the estimate's own bias (resampled fits move further than the estimate
+                    does), and for few replicates: a standard error needs far fewer replicates
+                    than 2.5 % quantiles (Efron & Tibshirani 1993, §6.5 and §13.3).
 
     ``bounds`` clips the interval to the metric's range (a basic interval can leave it).
 
@@ -166,6 +185,18 @@ def bootstrap_interval(estimate, replicates, *, method: str = "percentile",
         if method == "basic":
             q_low, q_high = percentile_interval(x, level=level)
             low, high = 2 * estimate - q_high, 2 * estimate - q_low
+        elif method == "basic-log":
+            x = x[x > 0]
+            if x.size == 0 or estimate <= 0:
+                return (float("nan"), float("nan"))
+            q_low, q_high = percentile_interval(x, level=level)
+            low, high = estimate ** 2 / q_high, estimate ** 2 / q_low
+        elif method == "normal":
+            from scipy.stats import norm  # local: scipy is a heavy import for the cheap paths
+
+            half = float(norm.ppf(0.5 + level / 2)) * float(x.std(ddof=1)) if x.size > 1 \
+                else 0.0
+            low, high = estimate - half, estimate + half
         else:
             low, high = _bias_corrected(estimate, x, level)
     if bounds is not None and np.isfinite(low):

@@ -1,9 +1,10 @@
 """The list of registered period metrics with their methods reference, for people and pages.
 
 One row per metric in export order: name, family, plain-words label, description, formula,
-direction (which way means more division, where the registry declares it), reference and check
-values. ``blocwatch metrics`` prints it; a report can hand the same frame to the page's Methods
-section. The texts live in :mod:`blocwatch.metrics.reference`; this module only tabulates them.
+direction (which way means more division, where the registry declares it), reference, check
+values and the bootstrap interval method with its reference. ``blocwatch metrics`` prints it;
+a report can hand the same frame to the page's Methods section. The texts live in
+:mod:`blocwatch.metrics.reference`; this module only tabulates them.
 """
 
 from __future__ import annotations
@@ -16,13 +17,14 @@ from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.options import METRIC_LIST_FORMATS
 
 COLUMNS = ["metric", "family", "label", "direction", "description", "formula", "reference",
-           "checks"]
+           "checks", "interval"]
 
 
 def metric_list() -> pd.DataFrame:
     """Every registered metric with its reference (``checks`` joined by " | ")."""
     from blocwatch.metrics import FAMILIES
     from blocwatch.metrics.registry import metric_info, metric_names
+    from blocwatch.metrics.resampling import INTERVAL_WORDS
 
     family_of = {m: fam for fam in FAMILIES.values() for m in fam.metrics}
     rows = []
@@ -32,7 +34,8 @@ def metric_list() -> pd.DataFrame:
         if isinstance(direction, dict):  # per metric, where a family declares it so
             direction = direction.get(name)
         rows.append([name, family.name, info.label, direction or "", info.description,
-                     info.formula, info.reference, " | ".join(info.checks)])
+                     info.formula, info.reference, " | ".join(info.checks),
+                     INTERVAL_WORDS[family.interval]])
     return pd.DataFrame(rows, columns=COLUMNS)
 
 

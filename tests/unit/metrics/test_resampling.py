@@ -160,3 +160,32 @@ def test_jackknife_se_of_the_mean_is_the_standard_error():
     assert jackknife_se(np.r_[loo, np.nan]) == pytest.approx(stats.sem(x), rel=1e-12)
     assert np.isnan(jackknife_se([1.0, 2.0, np.nan]))  # fewer than 3 values: no estimate
     assert jackknife_se([0.5] * 9) == 0.0
+
+
+def test_basic_log_is_the_basic_interval_on_the_log_scale():
+    # [S: scipy.stats.bootstrap, method="basic", given the log replicates] back-transformed:
+    # Davison & Hinkley (1997) §5.2.1, basic limits on a transformed scale.
+    from scipy import stats
+
+    data = np.log(np.array([2.0, 3.0, 4.0, 5.0, 6.0]))
+    estimate = float(np.exp(data.mean()))
+    # 1001 replicates: the 2.5 % and 97.5 % quantiles are order statistics on either scale.
+    reps = np.exp(np.random.default_rng(2).normal(data.mean() - 0.1, 0.2, 1001))
+    ref = stats.bootstrap((data,), np.mean, n_resamples=0, bootstrap_result=_Given(np.log(reps)),
+                          method="basic", confidence_level=0.95).confidence_interval
+    got = resampling.bootstrap_interval(estimate, reps, method="basic-log")
+    assert got == pytest.approx((np.exp(ref.low), np.exp(ref.high)), rel=1e-9)
+    # Resamples shifted down by a factor move the interval up by the same factor.
+    assert got[0] > np.quantile(reps, 0.025) and got[1] > estimate
+    assert np.isnan(resampling.bootstrap_interval(0.0, reps, method="basic-log")[0])
+
+
+def test_normal_interval_is_centred_on_the_estimate_with_the_resample_sd():
+    # [S: scipy.stats.norm.interval] with the replicates' SD (ddof=1) as the scale.
+    from scipy import stats
+
+    reps = np.random.default_rng(4).normal(1.3, 0.2, 40)
+    got = resampling.bootstrap_interval(1.0, reps, method="normal", level=0.9)
+    ref = stats.norm.interval(0.9, loc=1.0, scale=reps.std(ddof=1))
+    assert got == pytest.approx(ref, rel=1e-12)
+    assert resampling.bootstrap_interval(0.01, reps, method="normal", bounds=(0.0, 1.0))[0] == 0.0

@@ -44,3 +44,16 @@ def test_text_table_names_every_metric_with_its_label():
 def test_unknown_format_is_a_usage_error():
     with pytest.raises(UsageError, match="use one of: text, csv, json"):
         format_metric_list(metric_list(), "xml")
+
+
+def test_every_metric_names_its_interval_method_and_reference():
+    # Issue 12: the interval method of each family is documented where users read the list.
+    from blocwatch.metrics import FAMILIES
+    from blocwatch.metrics.resampling import INTERVAL_WORDS
+
+    frame = metric_list().set_index("metric")
+    for fam in FAMILIES.values():
+        for name in fam.metrics:
+            words = frame.loc[name, "interval"]
+            assert words == INTERVAL_WORDS[fam.interval] and "19" in words, name
+    assert frame.loc["ideal_median_gap", "interval"].startswith("standard")
