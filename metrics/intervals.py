@@ -26,7 +26,8 @@ SMALL_BODY = 15
 
 _METHOD_NAMES = {"percentile": "percentile", "basic": "basic (pivotal)",
                  "bc": "bias-corrected percentile", "basic-log": "basic (log scale)",
-                 "normal": "standard (estimate ± 1.96 resample SD)"}
+                 "normal": "standard (estimate ± 1.96 resample SD)",
+                 "corrected-log": "bias-corrected log-scale"}
 
 
 def _number(v: float) -> str:
@@ -83,7 +84,7 @@ def metric_interval(metric: str, estimate, replicates, *, n_members: int,
     method = fam.interval if fam is not None else "percentile"
     bounds = fam.bounds.get(metric) if fam is not None else None
     low, high = bootstrap_interval(estimate, finite, method=method, level=level, bounds=bounds)
-    if not (np.isfinite(low) and np.isfinite(high)):  # basic-log of a value or resamples ≤ 0
+    if not (np.isfinite(low) and np.isfinite(high)):  # log-scale methods: a value ≤ 0
         return MetricInterval(nan, nan, f"no interval: the {_METHOD_NAMES[method]} interval "
                                         f"needs a positive value and positive resamples")
     widened = n_members < SMALL_BODY and member_se is not None and np.isfinite(member_se) \

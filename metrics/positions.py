@@ -244,7 +244,7 @@ def _positions_family(inp: PeriodInput) -> dict[str, MetricValue]:
 
 
 @register("positions_mds", ("mds_median_gap",), bounds={"mds_median_gap": (0.0, math.inf)},
-          direction={"mds_median_gap": "higher"}, interval="basic-log")  # shift ∝ size
+          direction={"mds_median_gap": "higher"}, interval="corrected-log")  # see README
 def _mds_family(inp: PeriodInput) -> dict[str, MetricValue]:
     """Median gap on the first classical-MDS axis of 1 − agreement (NaN pairs imputed)."""
     codes, k = normalise_labels(inp.labels)

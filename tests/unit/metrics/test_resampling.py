@@ -189,3 +189,28 @@ def test_normal_interval_is_centred_on_the_estimate_with_the_resample_sd():
     ref = stats.norm.interval(0.9, loc=1.0, scale=reps.std(ddof=1))
     assert got == pytest.approx(ref, rel=1e-12)
     assert resampling.bootstrap_interval(0.01, reps, method="normal", bounds=(0.0, 1.0))[0] == 0.0
+
+
+def test_corrected_log_interval_by_hand_and_its_properties():
+    # By hand from the formula: ℓ̂ = log θ̂, d = ℓ̂ − mean(log θ*), half = z·√(s² + d²).
+    from scipy import stats
+
+    reps = np.exp(np.random.default_rng(5).normal(np.log(6.5), 0.08, 80))
+    est = 7.2
+    logs = np.log(reps)
+    d = np.log(est) - logs.mean()
+    half = stats.norm.ppf(0.975) * np.hypot(logs.std(ddof=1), d)
+    got = resampling.bootstrap_interval(est, reps, method="corrected-log")
+    assert got == pytest.approx((est * np.exp(d - half), est * np.exp(d + half)), rel=1e-12)
+    # Resamples below the estimate move the interval up; the estimate always stays inside.
+    assert got[1] - est > est - got[0]
+    for k in range(40):
+        rng = np.random.default_rng(k)
+        e = float(rng.uniform(0.5, 9.0))
+        lo, hi = resampling.bootstrap_interval(e, np.exp(rng.normal(rng.uniform(-1, 2), 0.2, 60)),
+                                               method="corrected-log")
+        assert lo < e < hi
+    # Replicates centred on the estimate (d = 0): the normal interval on the log scale.
+    sym = np.exp(np.log(3.0) + np.r_[-0.1, 0.1, -0.05, 0.05])
+    lo, hi = resampling.bootstrap_interval(3.0, sym, method="corrected-log")
+    assert np.log(hi / 3.0) == pytest.approx(-np.log(lo / 3.0))
