@@ -8,6 +8,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
+from tests.interval_checks import assert_no_silent_contradiction
 from tests.spatial_sim import spatial_votes
 
 CODES = {1: "yes", 2: "no", 3: "abstain"}  # YES, NO, ABSTAIN; MISSING rows are left out
@@ -36,18 +37,6 @@ def _stored(run_cli, store, *build_args):
     return pd.read_csv(io.StringIO(out))
 
 
-def _assert_no_silent_contradiction(rows):
-    has = rows[np.isfinite(rows["low"]) & np.isfinite(rows["high"])]
-    assert len(has) > 0
-    for _, r in has.iterrows():
-        note = r["note"] if isinstance(r["note"], str) else ""
-        assert r["low"] <= r["high"], r.to_dict()
-        if not r["low"] - 1e-9 <= r["value"] <= r["high"] + 1e-9:
-            assert "outside its interval" in note, r.to_dict()
-        if r["high"] - r["low"] <= 1e-12:
-            assert "no spread" in note, r.to_dict()
-
-
 @pytest.mark.slow
 def test_planted_council_intervals_hold_their_estimates(run_cli, tmp_path):
     # Planted truth (tests/spatial_sim.py): 30 members, 90 ballots a year, two years.
@@ -56,7 +45,7 @@ def test_planted_council_intervals_hold_their_estimates(run_cli, tmp_path):
             check=True)
     rows = _stored(run_cli, "c.duckdb", "--bootstrap", 60, "--permutations", 20,
                    "--expensive-replicates", 20)
-    _assert_no_silent_contradiction(rows)
+    assert_no_silent_contradiction(rows)
 
 
 @pytest.mark.slow
@@ -67,7 +56,7 @@ def test_nine_member_board_is_cautioned(run_cli, tmp_path):
     run_cli("ingest", "board.csv", "--store", "b.duckdb", "--body", "Small Board", check=True)
     rows = _stored(run_cli, "b.duckdb", "--bootstrap", 40, "--permutations", 20,
                    "--expensive-replicates", 20)
-    _assert_no_silent_contradiction(rows)
+    assert_no_silent_contradiction(rows)
     has = rows[np.isfinite(rows["low"])]
     for _, r in has.iterrows():
         assert ("members" in r["note"]) or ("no spread" in r["note"]), r.to_dict()
