@@ -57,11 +57,15 @@ def _mills(t: np.ndarray) -> np.ndarray:
     return np.exp(-0.5 * t * t - _LOG_SQRT_2PI - special.log_ndtr(t))
 
 
-def _spectral_start(sign: np.ndarray, cast: np.ndarray, rng) -> np.ndarray:
-    """Leading principal axis of the column-centred ±1 vote coding (0 where not cast)."""
+def _spectral_start(sign: np.ndarray, cast: np.ndarray, rng,
+                    weights: np.ndarray | None = None) -> np.ndarray:
+    """Leading principal axis of the column-centred ±1 vote coding (0 where not cast); a
+    column of weight w counts as w copies (√w scaling leaves c cᵀ unchanged)."""
     with np.errstate(invalid="ignore", divide="ignore"):
         centre = sign.sum(axis=0) / cast.sum(axis=0)
     c = (sign - centre) * cast
+    if weights is not None:
+        c = c * np.sqrt(weights)
     n, b = c.shape
     if n <= b:
         _, vec = scipy.linalg.eigh(c @ c.T, subset_by_index=[n - 1, n - 1])
@@ -74,8 +78,12 @@ def _spectral_start(sign: np.ndarray, cast: np.ndarray, rng) -> np.ndarray:
     return (x - x.mean()) / (x.std() if x.std() > 0 else 1.0)
 
 
-def _em_map(sign: np.ndarray, cast: np.ndarray, precision: float):
+def _em_map(sign: np.ndarray, cast: np.ndarray, precision: float, weights: np.ndarray):
     """The EM update as a map of the stacked parameters θ = (x, α, β).
+
+    Column j stands for ``weights[j]`` identical ballots (identical votes, identical
+    parameters at every step): its log-likelihood and prior terms count ``weights[j]`` times
+    and so does its share of each member's update; the per-ballot M-step is unchanged.
 
     Returns ``step(θ) -> (θ', log posterior at θ)``; the log posterior comes free with the
     E-step (it needs the same log Φ).
@@ -90,27 +98,23 @@ def _em_map(sign: np.ndarray, cast: np.ndarray, precision: float):
         t = sign * m
         log_phi_cdf = special.log_ndtr(t)
         mills = np.exp(-0.5 * t * t - _LOG_SQRT_2PI - log_phi_cdf)  # φ(t)/Φ(t)
-        log_post = float((log_phi_cdf * cast).sum() - 0.5 * x @ x
-                         - 0.5 * precision * (alpha @ alpha + beta @ beta))
+        log_post = float((log_phi_cdf * cast).sum(axis=0) @ weights - 0.5 * x @ x
+                         - 0.5 * precision * (weights @ (alpha * alpha + beta * beta)))
         ystar = (m + sign * mills) * cast  # truncated-normal means; 0 where not cast
         s1, s2 = cast_t @ x, cast_t @ (x * x) + precision
         r0, r1 = ystar.sum(axis=0), ystar.T @ x
         det = s0 * s2 - s1 * s1
         alpha = (s2 * r0 - s1 * r1) / det
         beta = (s0 * r1 - s1 * r0) / det
-        x = (ystar @ beta - cast @ (alpha * beta)) / (1.0 + cast @ (beta * beta))
+        wbeta = weights * beta
+        x = (ystar @ wbeta - cast @ (alpha * wbeta)) / (1.0 + cast @ (beta * wbeta))
         return np.concatenate([x, alpha, beta]), log_post
 
     return step
 
 
-def _start(fit: IdealPoints | None, sign: np.ndarray, cast: np.ndarray, active: np.ndarray,
-           informative: np.ndarray, seed) -> np.ndarray:
-    """θ₀ = (x, α, β) over the fitted members and ballots: the spectral start, or ``fit``."""
-    n_fit, b_fit = sign.shape
-    if fit is None:
-        x0 = _spectral_start(sign, cast, np.random.default_rng(seed))
-        return np.concatenate([x0, np.zeros(2 * b_fit)])
+def _warm_start(fit: IdealPoints, active: np.ndarray, informative: np.ndarray) -> np.ndarray:
+    """θ₀ = (x, α, β) over the fitted members and ballots, from ``fit``'s raw mode."""
     if fit.x.shape != active.shape or fit.alpha.shape != informative.shape:
         raise ValueError(f"start: expected a fit of {active.size} members and "
                          f"{informative.size} ballots, received {fit.x.size} and "
@@ -118,6 +122,31 @@ def _start(fit: IdealPoints | None, sign: np.ndarray, cast: np.ndarray, active: 
     x, alpha, beta = fit.raw()
     parts = (x[active], alpha[informative], beta[informative])
     return np.nan_to_num(np.concatenate(parts), nan=0.0, posinf=0.0, neginf=0.0)
+
+
+def _distinct_columns(sign: np.ndarray, start_ab: np.ndarray | None
+                      ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(first column of each distinct vote column, column → its distinct column, counts).
+
+    A bootstrap replicate repeats about a third of its ballots; identical columns that also
+    start from identical (α, β) stay identical at every EM step, so they are fitted once with
+    a weight. With a start whose (α, β) differ between identical columns nothing is merged.
+    """
+    b = sign.shape[1]
+    _, first, inverse, counts = np.unique(sign.T.astype(np.int8), axis=0, return_index=True,
+                                          return_inverse=True, return_counts=True)
+    inverse = inverse.reshape(-1)
+    if first.size == b:
+        return np.arange(b), np.arange(b), np.ones(b)
+    if start_ab is not None:
+        alpha, beta = start_ab[:b], start_ab[b:]
+        if not (np.array_equal(alpha, alpha[first][inverse])
+                and np.array_equal(beta, beta[first][inverse])):
+            return np.arange(b), np.arange(b), np.ones(b)
+    order = np.argsort(first)  # keep the ballots' own order
+    rank = np.empty_like(order)
+    rank[order] = np.arange(order.size)
+    return first[order], rank[inverse], counts[order].astype(np.float64)
 
 
 def _standardised(x: np.ndarray) -> np.ndarray:
@@ -156,6 +185,11 @@ def ideal_points_em(votes, *, n_iter: int = 3000, tol: float = 1e-4,
     from that fit's positions and ballot parameters instead (members or ballots it has no
     finite value for start at 0); the stopping rule is the same, so a warm start changes
     where EM begins, not when it may stop.
+
+    Identical vote columns (a bootstrap replicate repeats about a third of its ballots) are
+    fitted once, weighted by their count: each copy's likelihood, prior and share of the
+    norms above still count, so the mode and the iterations are those of the full matrix (up
+    to rounding), at the cost of the distinct columns only.
 
     After the fit x is standardised (mean 0, SD 1 over fitted members; α, β transformed so
     that α + βx is unchanged) and oriented: **positive x = members who vote yes more often**
@@ -205,16 +239,27 @@ def ideal_points_em(votes, *, n_iter: int = 3000, tol: float = 1e-4,
     sign = y - no[np.ix_(active, informative)]  # +1 yes, −1 no, 0 not cast
     cast = np.abs(sign)
     n_fit, b_fit = sign.shape
-    step = _em_map(sign, cast, 1.0 / ballot_prior_var)
-    theta, _ = step(_start(start, sign, cast, active, informative, seed))
+    warm = None if start is None else _warm_start(start, active, informative)
+    cols, inverse, weights = _distinct_columns(sign, None if warm is None else warm[n_fit:])
+    sign_u, cast_u = sign[:, cols], cast[:, cols]
+    b_u = cols.size
+    if warm is None:
+        x0 = _spectral_start(sign_u, cast_u, np.random.default_rng(seed), weights)
+        theta0 = np.concatenate([x0, np.zeros(2 * b_u)])
+    else:
+        theta0 = np.concatenate([warm[:n_fit], warm[n_fit:n_fit + b_fit][cols],
+                                 warm[n_fit + b_fit:][cols]])
+    step = _em_map(sign_u, cast_u, 1.0 / ballot_prior_var, weights)
+    omega = np.concatenate([np.ones(n_fit), weights, weights])  # each copy counts in ‖·‖
+    theta, _ = step(theta0)
     evals, converged = 1, False
     z_old = _standardised(theta[:n_fit])
     while evals < n_iter:
         theta1, _ = step(theta)
         theta2, lp1 = step(theta1)
         r, v = theta1 - theta, theta2 - 2 * theta1 + theta
-        v_norm = float(np.sqrt(v @ v))
-        s = min(-float(np.sqrt(r @ r)) / v_norm, -1.0) if v_norm > 0 else -1.0
+        v_norm = float(np.sqrt(v @ (omega * v)))
+        s = min(-float(np.sqrt(r @ (omega * r))) / v_norm, -1.0) if v_norm > 0 else -1.0
         jumped, lp_jump = step(theta - 2 * s * r + s * s * v)
         evals += 3
         if np.isfinite(lp_jump) and lp_jump >= lp1 and np.isfinite(jumped).all():
@@ -227,7 +272,8 @@ def ideal_points_em(votes, *, n_iter: int = 3000, tol: float = 1e-4,
         if moved < tol:
             converged = True
             break
-    x, alpha, beta = theta[:n_fit], theta[n_fit:n_fit + b_fit], theta[n_fit + b_fit:]
+    x = theta[:n_fit]
+    alpha, beta = theta[n_fit:n_fit + b_u][inverse], theta[n_fit + b_u:][inverse]
     centre, scale = x.mean(), x.std()
     scale = scale if scale > 0 else 1.0
     z = (x - centre) / scale

@@ -42,6 +42,30 @@ def test_em_reaches_the_posterior_mode_found_by_lbfgs():
     np.testing.assert_allclose(fit.x, ref, atol=2e-3)
 
 
+def test_repeated_ballots_reach_the_posterior_mode_found_by_lbfgs():
+    # A bootstrap replicate repeats ballots; EM fits each distinct column once with a weight.
+    # Reference: scipy.optimize L-BFGS-B on the full repeated matrix (every copy its own
+    # parameters and prior), so merging must not move the mode.
+    from blocwatch.metrics.resampling import ballot_weights
+
+    votes, _, _ = spatial_votes(n=16, b=30, missing=0.05, abstain=0.0, seed=4)
+    w = ballot_weights(votes.shape[1], 1, seed=2)[0]
+    rep = np.repeat(votes, w, axis=1)
+    assert (w > 1).any()
+    sign = (rep == YES).astype(float) - (rep == NO)
+    n, b = sign.shape
+    res = optimize.minimize(_neg_log_posterior, np.r_[np.linspace(-1, 1, n), np.zeros(2 * b)],
+                            args=(sign, np.abs(sign), n, b), method="L-BFGS-B",
+                            options={"maxiter": 20000, "ftol": 1e-14, "gtol": 1e-9})
+    ref = (res.x[:n] - res.x[:n].mean()) / res.x[:n].std()
+    fit = ideal_points_em(rep, tol=1e-9, n_iter=200000)
+    ref *= np.sign(np.dot(ref, fit.x))
+    np.testing.assert_allclose(fit.x, ref, atol=2e-3)
+    copies = np.repeat(np.arange(votes.shape[1]), w)  # copies of one ballot: one (α, β)
+    first = np.r_[0, np.flatnonzero(np.diff(copies)) + 1]
+    np.testing.assert_array_equal(fit.beta, np.repeat(fit.beta[first], w[w > 0]))
+
+
 def test_default_tolerance_is_close_to_the_converged_mode():
     # The docstring's claim: default tol lands within 0.02 SD of a tol = 1e-9 fit.
     votes, _, _ = spatial_votes(seed=5)
