@@ -46,6 +46,11 @@ def normalise_labels(labels, *, n: int | None = None) -> tuple[np.ndarray, int]:
     if n is not None and arr.shape[0] != n:
         raise ValueError(f"labels: expected {n} labels (one per member), received "
                          f"{arr.shape[0]}; fix: align labels with the matrix rows")
+    if arr.dtype.kind in "iu" and arr.size and 0 <= arr.min() and arr.max() < 4 * arr.size:
+        # Small non-negative integer codes (every resampled period relabels this way): no
+        # NaN is possible and a count replaces the sort of np.unique (same codes, same k).
+        present = np.bincount(arr) > 0
+        return (np.cumsum(present) - 1)[arr].astype(np.int64), int(np.count_nonzero(present))
     bad = np.flatnonzero(pd.isna(arr)) if arr.size else np.empty(0, dtype=np.int64)
     if bad.size:
         raise ValueError("labels: expected a group for every member, received NaN/None at "
@@ -105,7 +110,7 @@ def check_adjacency(matrix, name: str = "weights", *, n: int | None = None) -> n
         i = int(np.flatnonzero(np.diag(a))[0])
         raise ValueError(f"{name}: expected a zero diagonal (no self-loops), received "
                          f"{a[i, i]} at ({i}, {i}); fix: np.fill_diagonal(w, 0)")
-    if not np.allclose(a, a.T, rtol=1e-10, atol=1e-12):
+    if not np.array_equal(a, a.T) and not np.allclose(a, a.T, rtol=1e-10, atol=1e-12):
         i, j = np.argwhere(~np.isclose(a, a.T, rtol=1e-10, atol=1e-12))[0]
         raise ValueError(f"{name}: expected a symmetric matrix, received {a[i, j]} at "
                          f"({i}, {j}) but {a[j, i]} at ({j}, {i}); fix: use (w + w.T) / 2")

@@ -23,6 +23,7 @@ so what a picture shows is what the edge-count measures counted.
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 import networkx as nx
@@ -30,6 +31,14 @@ import numpy as np
 
 from blocwatch.pipeline.build.backbone import disparity_backbone
 from blocwatch.pipeline.options import Rule
+
+
+@functools.lru_cache(maxsize=16)
+def _upper_pairs(n: int) -> tuple[np.ndarray, np.ndarray]:
+    """Pairs i < j of n members (every replicate and permutation of a period asks again)."""
+    i, j = np.triu_indices(n, k=1)
+    i.flags.writeable = j.flags.writeable = False
+    return i, j
 
 
 def equal_likelihood_threshold(agreement: np.ndarray, labels: np.ndarray) -> float:
@@ -56,7 +65,7 @@ def equal_likelihood_threshold(agreement: np.ndarray, labels: np.ndarray) -> flo
     partisanship and super-cooperators in the U.S. House of Representatives. PLOS ONE 10(4):
     e0123507.
     """
-    iu = np.triu_indices(len(labels), k=1)
+    iu = _upper_pairs(len(labels))
     values = agreement[iu]
     same_group = (labels[iu[0]] == labels[iu[1]])
     ok = ~np.isnan(values)
