@@ -22,7 +22,8 @@ from blocwatch.metrics.registry import ABSTAIN, NO, YES
 
 __all__ = ["IdealPoints", "ideal_points_em"]
 
-_LOG_SQRT_2PI = 0.5 * np.log(2 * np.pi)
+_INV_SQRT2 = 1.0 / np.sqrt(2.0)
+_SQRT_2_OVER_PI = np.sqrt(2.0 / np.pi)
 
 
 @dataclass(frozen=True)
@@ -50,11 +51,6 @@ class IdealPoints:
         """(x, α, β) on the fitted mode's own scale (before standardising and orienting)."""
         beta = self.beta / self.scale
         return self.centre + self.scale * self.x, self.alpha - beta * self.centre, beta
-
-
-def _mills(t: np.ndarray) -> np.ndarray:
-    """φ(t)/Φ(t), stable for large negative t via log Φ."""
-    return np.exp(-0.5 * t * t - _LOG_SQRT_2PI - special.log_ndtr(t))
 
 
 def _spectral_start(sign: np.ndarray, cast: np.ndarray, rng,
@@ -85,21 +81,27 @@ def _em_map(sign: np.ndarray, cast: np.ndarray, precision: float, weights: np.nd
     parameters at every step): its log-likelihood and prior terms count ``weights[j]`` times
     and so does its share of each member's update; the per-ballot M-step is unchanged.
 
-    Returns ``step(θ) -> (θ', log posterior at θ)``; the log posterior comes free with the
-    E-step (it needs the same log Φ).
+    Returns ``step(θ, log_post=True) -> (θ', log posterior at θ or NaN)``: only the steps
+    SQUAREM compares need the log posterior, the others skip its logarithm.
     """
     n, b = sign.shape
     cast_t = cast.T  # M.T @ v: a vector-matrix product v @ M is slow in some BLAS builds
     s0 = cast.sum(axis=0) + precision
 
-    def step(theta: np.ndarray) -> tuple[np.ndarray, float]:
+    def step(theta: np.ndarray, log_post: bool = True) -> tuple[np.ndarray, float]:
         x, alpha, beta = theta[:n], theta[n:n + b], theta[n + b:]
         m = alpha + x[:, None] * beta
-        t = sign * m
-        log_phi_cdf = special.log_ndtr(t)
-        mills = np.exp(-0.5 * t * t - _LOG_SQRT_2PI - log_phi_cdf)  # φ(t)/Φ(t)
-        log_post = float((log_phi_cdf * cast).sum(axis=0) @ weights - 0.5 * x @ x
-                         - 0.5 * precision * (weights @ (alpha * alpha + beta * beta)))
+        # Φ(t) = erfcx(u) e^(−u²) / 2 with u = −t/√2, so φ(t)/Φ(t) = √(2/π) / erfcx(u) needs
+        # no exp or log and does not underflow for t ≪ 0. Beyond t = 37, Φ(t) = 1 in double
+        # precision: clipping there keeps erfcx finite and changes nothing.
+        t = np.minimum(sign * m, 37.0)
+        scaled = special.erfcx(t * -_INV_SQRT2)
+        mills = _SQRT_2_OVER_PI / scaled
+        lp = float("nan")
+        if log_post:
+            log_phi_cdf = np.log(0.5 * scaled) - 0.5 * t * t
+            lp = float((log_phi_cdf * cast).sum(axis=0) @ weights - 0.5 * x @ x
+                       - 0.5 * precision * (weights @ (alpha * alpha + beta * beta)))
         ystar = (m + sign * mills) * cast  # truncated-normal means; 0 where not cast
         s1, s2 = cast_t @ x, cast_t @ (x * x) + precision
         r0, r1 = ystar.sum(axis=0), ystar.T @ x
@@ -108,7 +110,7 @@ def _em_map(sign: np.ndarray, cast: np.ndarray, precision: float, weights: np.nd
         beta = (s0 * r1 - s1 * r0) / det
         wbeta = weights * beta
         x = (ystar @ wbeta - cast @ (alpha * wbeta)) / (1.0 + cast @ (beta * wbeta))
-        return np.concatenate([x, alpha, beta]), log_post
+        return np.concatenate([x, alpha, beta]), lp
 
     return step
 
@@ -251,11 +253,11 @@ def ideal_points_em(votes, *, n_iter: int = 3000, tol: float = 1e-4,
                                  warm[n_fit + b_fit:][cols]])
     step = _em_map(sign_u, cast_u, 1.0 / ballot_prior_var, weights)
     omega = np.concatenate([np.ones(n_fit), weights, weights])  # each copy counts in ‖·‖
-    theta, _ = step(theta0)
+    theta, _ = step(theta0, log_post=False)
     evals, converged = 1, False
     z_old = _standardised(theta[:n_fit])
     while evals < n_iter:
-        theta1, _ = step(theta)
+        theta1, _ = step(theta, log_post=False)
         theta2, lp1 = step(theta1)
         r, v = theta1 - theta, theta2 - 2 * theta1 + theta
         v_norm = float(np.sqrt(v @ (omega * v)))
@@ -265,7 +267,7 @@ def ideal_points_em(votes, *, n_iter: int = 3000, tol: float = 1e-4,
         if np.isfinite(lp_jump) and lp_jump >= lp1 and np.isfinite(jumped).all():
             theta = jumped
         else:  # the extrapolation overshot: keep the monotone EM path
-            theta, _ = step(theta2)
+            theta, _ = step(theta2, log_post=False)
             evals += 1
         z_new = _standardised(theta[:n_fit])
         moved, z_old = float(np.max(np.abs(z_new - z_old))), z_new

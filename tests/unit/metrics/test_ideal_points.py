@@ -66,6 +66,34 @@ def test_repeated_ballots_reach_the_posterior_mode_found_by_lbfgs():
     np.testing.assert_array_equal(fit.beta, np.repeat(fit.beta[first], w[w > 0]))
 
 
+def test_em_step_log_posterior_and_update_match_scipy_log_ndtr():
+    # The step computes Φ through erfcx; reference: scipy.special.log_ndtr for the log
+    # posterior, and the textbook truncated-normal means m ± φ(m)/Φ(±m) (scipy.stats.norm)
+    # for the update, at linear predictors far into both tails (|t| up to 60).
+    from scipy import stats
+
+    from blocwatch.metrics.ideal_points import _em_map
+
+    rng = np.random.default_rng(3)
+    n, b = 7, 9
+    sign = rng.choice([-1.0, 0.0, 1.0], size=(n, b), p=[0.45, 0.1, 0.45])
+    cast = np.abs(sign)
+    theta = np.r_[rng.normal(0, 3, n), rng.normal(0, 5, b), rng.normal(0, 5, b)]
+    new, lp = _em_map(sign, cast, 1 / 25.0, np.ones(b))(theta)
+    assert lp == pytest.approx(-_neg_log_posterior(theta, sign, cast, n, b), rel=1e-12)
+    x, alpha, beta = theta[:n], theta[n:n + b], theta[n + b:]
+    m = alpha + np.outer(x, beta)
+    assert np.abs(sign * m).max() > 37  # the clipped tail is exercised
+    mills = np.exp(stats.norm.logpdf(m) - stats.norm.logcdf(sign * m))
+    ystar = (m + sign * mills) * cast
+    s0, s1, s2 = cast.sum(0) + 1 / 25, x @ cast, (x * x) @ cast + 1 / 25
+    r0, r1 = ystar.sum(0), x @ ystar
+    a_ref = (s2 * r0 - s1 * r1) / (s0 * s2 - s1 * s1)
+    b_ref = (s0 * r1 - s1 * r0) / (s0 * s2 - s1 * s1)
+    np.testing.assert_allclose(new[n:n + b], a_ref, rtol=1e-9)
+    np.testing.assert_allclose(new[n + b:], b_ref, rtol=1e-9)
+
+
 def test_default_tolerance_is_close_to_the_converged_mode():
     # The docstring's claim: default tol lands within 0.02 SD of a tol = 1e-9 fit.
     votes, _, _ = spatial_votes(seed=5)
