@@ -6,6 +6,7 @@ Run from the repository root::
     python tests/benchmarks/bench.py --size target           # the sizes of the targets
     python tests/benchmarks/bench.py --size target --build-periods 5   # project the build
     python tests/benchmarks/bench.py --size tiny             # seconds (the CI smoke test)
+    python tests/benchmarks/bench.py --size small --demo      # also time ``blocwatch demo``
 
 Each stage is the median of ``--repeats`` runs after one warm-up. Ratios are against two
 baselines measured in the same run (see ``baselines.py``): the bare numpy product of the same
@@ -40,15 +41,16 @@ from national import tree_rss  # noqa: E402
 
 SIZES = {
     # agreement: members × ballots of the kernel test; national: the body built end to end.
-    "tiny": dict(agreement=(40, 200), national=synth.Size(3, 30, 60), bootstrap=8,
-                 permutations=8, repeats=2),
-    "small": dict(agreement=(200, 1000), national=synth.Size(8, 150, 300), bootstrap=50,
-                  permutations=50, repeats=3),
-    "target": dict(agreement=(500, 5000), national=synth.Size(50, 450, 1000), bootstrap=200,
-                   permutations=200, repeats=5),
+    # chamber: one large period (members, ballots) built with the same resampling.
+    "tiny": dict(agreement=(40, 200), national=synth.Size(3, 30, 60), chamber=(40, 120),
+                 bootstrap=8, permutations=8, repeats=2),
+    "small": dict(agreement=(200, 1000), national=synth.Size(8, 150, 300), chamber=(250, 1500),
+                  bootstrap=50, permutations=50, repeats=3),
+    "target": dict(agreement=(500, 5000), national=synth.Size(50, 450, 1000),
+                   chamber=(750, 5000), bootstrap=200, permutations=200, repeats=5),
 }
 TARGETS = {"agreement_vs_bare": 2.0, "pandas_vs_agreement": 50.0, "build_seconds": 120.0,
-           "period_vs_point": 5.0,
+           "period_vs_point": 5.0, "chamber_seconds": 60.0, "demo_seconds": 15.0,
            "build_peak_gb": 4.0, "rebuild_share": 0.10, "parquet_rows_per_s": 2e6,
            "csv_rows_per_s": 1e6}
 
@@ -114,30 +116,60 @@ def agreement_stages(n: int, b: int, repeats: int) -> dict:
     return out
 
 
+def synthetic_period(members: int, ballots: int, seed: int = 6):
+    """One synthetic period as the build hands it to ``compute_period``."""
+    from datetime import date
+
+    from blocwatch.pipeline.build.matrices import VoteMatrix
+    from blocwatch.pipeline.options import Period
+
+    labels, votes = synth.vote_matrix(members, ballots, seed=seed)
+    n, b = votes.shape
+    ids = np.array([f"S{i:04d}" for i in range(n)], dtype=object)
+    return VoteMatrix("bench", Period(date(2001, 1, 1), date(2001, 12, 31), "2001"), ids, ids,
+                      np.asarray(synth.GROUPS, dtype=object)[labels],
+                      np.array([f"B{j}" for j in range(b)], dtype=object),
+                      np.full(b, "", dtype=object), votes)
+
+
+def chamber_seconds(members: int, ballots: int, bootstrap: int, permutations: int,
+                    jobs: int) -> float:
+    """One large period with the resampling of the build (one run: it is the slow stage)."""
+    from threadpoolctl import threadpool_limits
+
+    from blocwatch.pipeline.build.compute import compute_period
+    from blocwatch.pipeline.options import BuildOptions
+
+    threadpool_limits(max(1, (os.cpu_count() or 1) // jobs))
+    vm = synthetic_period(members, ballots, seed=7)
+    opts = BuildOptions(bootstrap=bootstrap, permutations=permutations)
+    return _once(lambda: compute_period(vm, opts, "bench"))
+
+
+def demo_seconds(work: Path) -> float:
+    """Wall time of ``blocwatch demo`` (every default) in a fresh interpreter."""
+    code = "import sys; from blocwatch.pipeline.cli.main import main; sys.exit(main())"
+    t0 = time.perf_counter()
+    subprocess.run([sys.executable, "-c", code, "demo", "--out", str(work / "demo")],
+                   check=True, stdout=subprocess.DEVNULL)
+    return time.perf_counter() - t0
+
+
 def period_stages(size: synth.Size, bootstrap: int, permutations: int, repeats: int,
                   jobs: int) -> dict:
     """Graph, every metric family, bootstrap and nulls on one national-size period, with the
     BLAS threads one of ``jobs`` build workers gets (run after the agreement stage)."""
-    from datetime import date
-
     from threadpoolctl import threadpool_limits
 
     from blocwatch.metrics import registry
     from blocwatch.pipeline.build.compute import compute_period, period_input
     from blocwatch.pipeline.build.filters import filter_period
     from blocwatch.pipeline.build.graphs import build_graph
-    from blocwatch.pipeline.build.matrices import VoteMatrix
-    from blocwatch.pipeline.options import BuildOptions, Period, parse_rule
+    from blocwatch.pipeline.options import BuildOptions, parse_rule
 
     # As in a build's worker: BLAS threads shared out between the workers.
     threadpool_limits(max(1, (os.cpu_count() or 1) // jobs))
-    labels, votes = synth.vote_matrix(size.members, size.ballots, seed=6)
-    n, b = votes.shape
-    ids = np.array([f"S{i:04d}" for i in range(n)], dtype=object)
-    vm = VoteMatrix("bench", Period(date(2001, 1, 1), date(2001, 12, 31), "2001"), ids, ids,
-                    np.asarray(synth.GROUPS, dtype=object)[labels],
-                    np.array([f"B{j}" for j in range(b)], dtype=object),
-                    np.full(b, "", dtype=object), votes)
+    vm = synthetic_period(size.members, size.ballots)
     base = BuildOptions(bootstrap=0, permutations=0)
     fvm = filter_period(vm, base.agreement)
     inp = period_input(fvm.votes, fvm.labels, base, 1)
@@ -195,6 +227,10 @@ def print_tables(res: dict, cfg: dict, args) -> None:
     for stage, seconds in res["period"].items():
         print(f"  {stage:32} {_fmt(seconds)}")
     e2e = res["national"]
+    members, ballots = cfg["chamber"]
+    print(f"\nlarge chamber, one period {members}×{ballots}: {_fmt(res['chamber'])}")
+    if "demo" in res:
+        print(f"blocwatch demo (every default):     {_fmt(res['demo'])}")
     print(f"\nnational body {nat.periods} periods × {nat.members} × {nat.ballots} "
           f"({nat.rows:,} votes), jobs={args.jobs}:")
     for stage in ("ingest", "matrices", "build", "rebuild", "report"):
@@ -224,7 +260,8 @@ def target_rows(res: dict, cfg: dict) -> list[tuple[str, str, str, str, bool]]:
     plain = per["period (no resampling)"]
     resampled = plain + sum(v for k, v in per.items() if k.startswith(("bootstrap", "nulls")))
     vs_point = resampled / plain
-    return [
+    members, ballots = cfg["chamber"]
+    rows = [
         (f"one period {nat.members}×{nat.ballots}, B={cfg['bootstrap']}, "
          f"P={cfg['permutations']}", f"{resampled:.1f} s (point {plain:.1f} s)",
          f"{vs_point:.1f}× point", f"≤ {t['period_vs_point']:g}×",
@@ -248,7 +285,16 @@ def target_rows(res: dict, cfg: dict) -> list[tuple[str, str, str, str, bool]]:
         ("ingest CSV", f"{res['ingest']['csv']:,.0f} rows/s",
          f"{res['ingest']['csv'] / t['csv_rows_per_s']:.2f}× target", "≥ 1,000,000/s",
          res["ingest"]["csv"] >= t["csv_rows_per_s"]),
+        (f"large chamber: one period {members}×{ballots}, B={cfg['bootstrap']}, "
+         f"P={cfg['permutations']}", f"{res['chamber']:.1f} s",
+         f"{res['chamber'] / t['chamber_seconds']:.2f}× budget",
+         f"≤ {t['chamber_seconds']:g} s", res["chamber"] <= t["chamber_seconds"]),
     ]
+    if "demo" in res:
+        rows.append(("demo (blocwatch demo, defaults)", f"{res['demo']:.1f} s",
+                     f"{res['demo'] / t['demo_seconds']:.2f}× budget",
+                     f"≤ {t['demo_seconds']:g} s", res["demo"] <= t["demo_seconds"]))
+    return rows
 
 
 def print_targets(res: dict, cfg: dict) -> None:
@@ -271,6 +317,8 @@ def main(argv: list[str] | None = None) -> dict:
                    help="build only the first K periods and project the full build")
     p.add_argument("--workdir", default=None, help="folder for the files and stores")
     p.add_argument("--json", default=None, help="also write the results to this file")
+    p.add_argument("--demo", action="store_true",
+                   help="also time 'blocwatch demo' with every default (minutes)")
     args = p.parse_args(argv)
     cfg = dict(SIZES[args.size])
     repeats = args.repeats or cfg["repeats"]
@@ -285,6 +333,12 @@ def main(argv: list[str] | None = None) -> dict:
         res["period"] = period_stages(nat, cfg["bootstrap"], cfg["permutations"], repeats,
                                       args.jobs)
         print("period stages done", file=sys.stderr)
+        res["chamber"] = chamber_seconds(*cfg["chamber"], cfg["bootstrap"],
+                                         cfg["permutations"], args.jobs)
+        print("large chamber done", file=sys.stderr)
+        if args.demo:
+            res["demo"] = demo_seconds(work)
+            print("demo done", file=sys.stderr)
         ingest_repeats = 1 if nat.rows > 5_000_000 else repeats
         res["ingest"] = {}
         for fmt, f in files.items():

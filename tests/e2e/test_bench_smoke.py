@@ -26,9 +26,10 @@ def test_bench_tiny_reports_every_stage_and_target(tmp_path):
     assert set(res["ingest"]) == {"parquet", "csv"}
     # The printed target table names every target.
     names = [t["target"] for t in res["targets"]]
-    assert len(names) == 8
+    assert len(names) == 9  # the demo's row only with --demo
+    assert res["chamber"] > 0
     for word in ("one period", "bare product", "pandas", "ingest + build", "peak memory", "rebuild",
-                 "Parquet", "CSV"):
+                 "Parquet", "CSV", "large chamber"):
         assert any(word in n for n in names), word
         assert word in proc.stdout
     # Temporary files and stores are gone.
