@@ -27,15 +27,15 @@ import os
 import shutil
 from pathlib import Path
 
-from blocwatch.dashboards import palette
-from blocwatch.dashboards.briefing import build_briefing
-from blocwatch.dashboards.chart import Chart, slug
-from blocwatch.dashboards.compare import build_comparison
-from blocwatch.dashboards.embed import write_pieces
+from blocwatch.dashboards.charts import palette
+from blocwatch.dashboards.charts.chart import Chart, slug
+from blocwatch.dashboards.charts.images import FORMATS, export_images, find_browser
 from blocwatch.dashboards.errors import ImageExportUnavailable, ReportInputError
-from blocwatch.dashboards.html import PLOTLY_BUNDLE, page
-from blocwatch.dashboards.images import FORMATS, export_images, find_browser
-from blocwatch.dashboards.safe import esc
+from blocwatch.dashboards.pages.briefing import build_briefing
+from blocwatch.dashboards.pages.compare import build_comparison
+from blocwatch.dashboards.pages.embed import write_pieces
+from blocwatch.dashboards.pages.html import PLOTLY_BUNDLE, page
+from blocwatch.dashboards.pages.safe import esc
 from blocwatch.dashboards.tables import ReportTables
 
 log = logging.getLogger("blocwatch.dashboards")

@@ -119,7 +119,7 @@ class ReportTables:
     measures : DataFrame, optional
         The metric list: ``metric, label, description, formula, direction, reference``
         (direction: ``higher`` or ``lower``, the side meaning more division). The Methods
-        section prints these; ``dashboards.labels`` fills in what is missing.
+        section prints these; ``dashboards.prose.labels`` fills in what is missing.
     provenance : dict
         Shown in the footer: e.g. ``data_fingerprint, tool_version, parameters, run_id,
         run_time``. Any keys are accepted; values are shown as text.

@@ -18,23 +18,23 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from blocwatch.metrics.bridges import (
+from blocwatch.metrics.agreement.cohesion import loyalty
+from blocwatch.metrics.graph.bridges import (
     cross_tie_share,
     leave_one_out_delta_q,
     participation_coefficient,
     super_cooperators,
 )
-from blocwatch.metrics.bridging import (
+from blocwatch.metrics.graph.bridging import (
     BRIDGE_ALPHA,
     bridge_ranks,
     bridging_null,
     bridging_null_p,
     bridging_ratio,
 )
-from blocwatch.metrics.cohesion import loyalty
-from blocwatch.metrics.mds import agreement_distances, classical_mds
-from blocwatch.metrics.positions import period_ideal_points
 from blocwatch.metrics.registry import PeriodInput
+from blocwatch.metrics.space.mds import agreement_distances, classical_mds
+from blocwatch.metrics.space.positions import period_ideal_points
 
 __all__ = ["MEMBER_FAMILIES", "MemberFamily", "register_member", "member_metric_names",
            "compute_members"]

@@ -60,7 +60,7 @@ METRIC_INFO: dict[str, MetricInfo] = {
         "k_i = Σ_j A_ij, 2m = Σ_ij A_ij",
         f"{_NEWMAN}; {_WAUGH}",
         ("networkx barbell_graph(3, 0), its two triangles → 5/14 [networkx modularity "
-         "docstring; tests/unit/metrics/test_modularity.py]",
+         "docstring; tests/unit/metrics/graph/test_modularity.py]",
          "karate club, 'club' split, unweighted → 0.3582347140039448 [networkx 3.6.1; same "
          "test]",
          f"four-ballot toy roll call → 1/14, 0.2 without its unanimous ballot [{_TOY}]")),
@@ -72,14 +72,14 @@ METRIC_INFO: dict[str, MetricInfo] = {
         "max over partitions c of Q(c), searched by Leiden (a lower bound on the maximum)",
         f"{_LEIDEN}; Guimerà R, Sales-Pardo M, Amaral LAN (2004). Phys. Rev. E 70:025101",
         ("karate club, unweighted, exact maximum → 0.4197896120973046; the search reaches "
-         "≥ 0.41 [igraph's exact-optimum unit test; tests/unit/metrics/test_community.py]",)),
+         "≥ 0.41 [igraph's exact-optimum unit test; tests/unit/metrics/graph/test_community.py]",)),
     "communities": MetricInfo(
         "Communities",
         "Number of communities in the best split Leiden finds (isolated members count as "
         "their own).",
         "number of blocks of the Leiden partition",
         _LEIDEN,
-        ("networkx barbell_graph(3, 0) → 2 [doctest of blocwatch.metrics.community]",)),
+        ("networkx barbell_graph(3, 0) → 2 [doctest of blocwatch.metrics.graph.community]",)),
     "community_group_ari": MetricInfo(
         "Community–group match",
         "Adjusted Rand index between the communities found and the recorded groups: 1 when "
@@ -95,7 +95,7 @@ METRIC_INFO: dict[str, MetricInfo] = {
         "E / (E + I); E ties between groups, I ties within, on the thresholded graph",
         _KS,
         ("karate club, 'club' split → 11/78 [networkx partition_quality coverage 67/78; "
-         "tests/unit/metrics/test_crossgroup.py]",)),
+         "tests/unit/metrics/graph/test_crossgroup.py]",)),
     "cross_group_ratio": MetricInfo(
         "Cross-group tie ratio",
         "Cross-group tie share divided by the share random group labels (same sizes) would "
@@ -111,7 +111,7 @@ METRIC_INFO: dict[str, MetricInfo] = {
         "EI = (E − I) / (E + I)",
         _KS,
         ("karate club, 'club' split → (11 − 67)/78 = −0.717949 [networkx partition_quality; "
-         "tests/unit/metrics/test_crossgroup.py]",)),
+         "tests/unit/metrics/graph/test_crossgroup.py]",)),
     "separability": MetricInfo(
         "Separability",
         "How well a member's group can be told from their voting alone: cross-validated "
@@ -133,7 +133,7 @@ METRIC_INFO: dict[str, MetricInfo] = {
         "b_i to the nearest other group",
         "Rousseeuw PJ (1987). Silhouettes. J. Comput. Appl. Math. 20:53–65",
         ("points {0, 1} vs {10, 11} → 0.899749 [derived by hand; equals "
-         "sklearn.metrics.silhouette_score; tests/unit/metrics/test_separability.py]",)),
+         "sklearn.metrics.silhouette_score; tests/unit/metrics/space/test_separability.py]",)),
     "krippendorff_alpha": MetricInfo(
         "Panel agreement (Krippendorff's alpha)",
         "How far the members' scores agree beyond chance on scored ballots: 1 perfect, 0 "
@@ -142,7 +142,7 @@ METRIC_INFO: dict[str, MetricInfo] = {
         _KRIPP,
         ("Krippendorff (2011) worked example, 4 observers × 12 units → nominal 0.743, "
          "ordinal 0.815, interval 0.849 [published; also the PyPI package krippendorff 0.9; "
-         "tests/unit/metrics/test_reliability.py]",)),
+         "tests/unit/metrics/agreement/test_reliability.py]",)),
     "krippendorff_alpha_within": MetricInfo(
         "Agreement within groups (alpha)",
         "Krippendorff's alpha counting only pairs of members of the same group: well above "
@@ -151,7 +151,7 @@ METRIC_INFO: dict[str, MetricInfo] = {
         "answers in D_e)",
         _KRIPP,
         ("units split by group → the krippendorff package's alpha [PyPI krippendorff 0.9; "
-         "tests/unit/metrics/test_reliability.py]",)),
+         "tests/unit/metrics/agreement/test_reliability.py]",)),
     "rice_mean": MetricInfo(
         "Rice cohesion (mean)",
         "How united each group votes, averaged over ballots and groups (weighted by size): "
@@ -168,7 +168,7 @@ METRIC_INFO: dict[str, MetricInfo] = {
         "AI = [max(Y, N, A) − ½((Y + N + A) − max(Y, N, A))] / (Y + N + A)",
         _HNR,
         ("(6 yes, 3 no, 1 abstain) → 0.4; (10, 0, 0) → 1; (4, 4, 4) → 0 [derived by hand; "
-         "tests/unit/metrics/test_cohesion.py]",)),
+         "tests/unit/metrics/agreement/test_cohesion.py]",)),
     "group_line_share": MetricInfo(
         "Group-line ballots",
         "Share of ballots on which one group's majority voted yes and another's no.",
@@ -218,5 +218,5 @@ METRIC_INFO: dict[str, MetricInfo] = {
         "median gap as for ideal points, on the first classical-MDS axis of D = 1 − agreement",
         f"{_MDS}; {_MEDIAN_GAP}",
         ("two equal blocks, agreement 1 within and 0 across → every member at ±½, "
-         "λ₁ = n/4 [derived by hand; tests/unit/metrics/test_mds.py]",)),
+         "λ₁ = n/4 [derived by hand; tests/unit/metrics/space/test_mds.py]",)),
 }

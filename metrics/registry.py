@@ -49,10 +49,11 @@ class PeriodInput:
     votes : (n, b) int8 codes MISSING/YES/NO/ABSTAIN, or None where not available.
     seed : int, for every random step (Louvain, CV splits).
     scores : (n, b) float answers on the period's scored (non-yes/no) ballots, NaN where none
-        was given, or None for yes/no bodies (see :mod:`blocwatch.metrics.reliability`).
+        was given, or None for yes/no bodies (see :mod:`blocwatch.metrics.agreement.reliability`).
     score_level : "nominal", "ordinal" or "interval": how ``scores`` are measured, or None.
-    ideal_points : an :class:`~blocwatch.metrics.ideal_points.IdealPoints` fit of exactly
-        ``votes``, made once by the caller (:func:`blocwatch.metrics.positions.with_ideal_points`)
+    ideal_points : an :class:`~blocwatch.metrics.space.ideal_points.IdealPoints` fit of exactly
+        ``votes``, made once by the caller
+        (:func:`blocwatch.metrics.space.positions.with_ideal_points`)
         so the families and member table that need it share one fit; None: fitted on demand.
     """
 
@@ -113,15 +114,16 @@ class Family:
     # same direction, that orders permutations tied on the metric itself (a discrete measure
     # with an atom, e.g. a cross-group share of 0, would otherwise lose its power).
     null_tiebreak: dict[str, Callable[[PeriodInput], float]] = field(default_factory=dict)
-    # How the bootstrap interval is read off the replicates (metrics/resampling.py
+    # How the bootstrap interval is read off the replicates (metrics/uncertainty/resampling.py
     # INTERVAL_METHODS), chosen per family for coverage: tests/benchmarks/coverage.py.
     interval: str = "percentile"
 
 
 # The modules that register the period families, in the order families are listed and computed.
 # A new family module is added here (DEVELOPERS.md, "Adding a metric").
-FAMILY_MODULES = ("modularity", "community", "crossgroup", "separability", "reliability",
-                  "cohesion", "positions")
+FAMILY_MODULES = ("graph.modularity", "graph.community", "graph.crossgroup",
+                  "space.separability", "agreement.reliability", "agreement.cohesion",
+                  "space.positions")
 _REGISTERED: dict[str, Family] = {}
 
 
@@ -160,9 +162,9 @@ def register(name: str, metrics: tuple[str, ...], *,
     ``direction`` maps a metric to ``"higher"`` or ``"lower"``: the side that means more
     division between groups; every metric in ``permutation_null`` must have one.
     ``null_tiebreak`` gives a null-tested metric a second statistic that orders tied
-    permutations (:func:`blocwatch.metrics.nulls.label_permutation_null`). ``interval`` is
-    the bootstrap interval method of every metric of the family
-    (:func:`blocwatch.metrics.resampling.bootstrap_interval`).
+    permutations (:func:`blocwatch.metrics.uncertainty.nulls.label_permutation_null`).
+    ``interval`` is the bootstrap interval method of every metric of the family
+    (:func:`blocwatch.metrics.uncertainty.resampling.bootstrap_interval`).
     """
     direction = dict(direction or {})
     bad = {m: d for m, d in direction.items() if d not in DIRECTIONS or m not in metrics}

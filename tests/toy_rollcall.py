@@ -16,13 +16,13 @@ Values derived by hand from this table (each confirmed by the unit test named be
 * weighted modularity of the groups on the complete graph weighted by a_ij (no self-loops):
   Q = 1/14; without the unanimous v3, Q = 0.2 — every unanimous ballot adds 1/V to every pair
   and pulls Q toward 0, which is why the build leaves unanimous ballots out by default
-  (tests/unit/metrics/test_modularity.py);
-* weighted E–I index −1/7, −0.4 without v3 (tests/unit/metrics/test_crossgroup.py);
+  (tests/unit/metrics/graph/test_modularity.py);
+* weighted E–I index −1/7, −0.4 without v3 (tests/unit/metrics/graph/test_crossgroup.py);
 * Rice index of A per ballot 1, 1/3, 1, 1 → mean 5/6; Agreement Index of A on v2 = 0.5;
   group-line ballots v1, v2, v4 (3 of 4); A3 votes with A's majority on 2 of those 3
-  (tests/unit/metrics/test_cohesion.py);
+  (tests/unit/metrics/agreement/test_cohesion.py);
 * Cohen's kappa A1 vs B3: p_o = 1/2, p_e = 3/8 → κ = 0.2, as
-  ``sklearn.metrics.cohen_kappa_score`` gives (tests/unit/metrics/test_scales.py).
+  ``sklearn.metrics.cohen_kappa_score`` gives (tests/unit/metrics/agreement/test_scales.py).
 
 The same table is in the files of ``fixtures/ingest/`` (written by its make_fixtures.py).
 """

@@ -16,8 +16,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from blocwatch.metrics.agreement.scales import ratio_matrix
 from blocwatch.metrics.registry import ABSTAIN, NO, YES
-from blocwatch.metrics.scales import ratio_matrix
 
 # Largest total weight for the √w route: each term then carries at most ~2⁻²² of rounding, so
 # a count's error stays far below ½ and rounding restores the exact whole number.
@@ -81,5 +81,5 @@ def agreement_counts(votes: np.ndarray, *, weights: np.ndarray | None = None,
 
 def agreement_matrix(same: np.ndarray, both: np.ndarray, *, min_shared: int = 1) -> np.ndarray:
     """same / both as float64, NaN where both < ``min_shared``; diagonal 1
-    (:func:`~blocwatch.metrics.scales.ratio_matrix`, the one divider)."""
+    (:func:`~blocwatch.metrics.agreement.scales.ratio_matrix`, the one divider)."""
     return ratio_matrix(same, both, min_shared=max(min_shared, 1))

@@ -10,7 +10,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from blocwatch.metrics.trends import trend_summary
+from blocwatch.metrics.change.trends import trend_summary
 from blocwatch.pipeline.build.compute import PeriodResult
 from blocwatch.pipeline.build.executors import Executor, ExecutorSpec, PeriodJob, make_executor
 from blocwatch.pipeline.build.planner import BodyPlan, body_options, plan_body

@@ -12,14 +12,18 @@ import numpy as np
 import pandas as pd
 
 from blocwatch.metrics import PeriodInput, compute_all, registry
-from blocwatch.metrics.bridging import member_notes
-from blocwatch.metrics.cohesion import group_agreement_matrix
-from blocwatch.metrics.intervals import metric_interval
+from blocwatch.metrics.agreement.cohesion import group_agreement_matrix
+from blocwatch.metrics.agreement.reliability import alpha_by_group
+from blocwatch.metrics.graph.bridging import member_notes
 from blocwatch.metrics.member_registry import compute_members
-from blocwatch.metrics.nulls import label_permutation_null
-from blocwatch.metrics.positions import replicate_start, with_ideal_points
-from blocwatch.metrics.reliability import alpha_by_group
-from blocwatch.metrics.resampling import ballot_weights, percentile_interval, stable_seed
+from blocwatch.metrics.space.positions import replicate_start, with_ideal_points
+from blocwatch.metrics.uncertainty.intervals import metric_interval
+from blocwatch.metrics.uncertainty.nulls import label_permutation_null
+from blocwatch.metrics.uncertainty.resampling import (
+    ballot_weights,
+    percentile_interval,
+    stable_seed,
+)
 from blocwatch.pipeline.build.agreement import agreement_counts, agreement_matrix
 from blocwatch.pipeline.build.causes import empty_cause, explain_missing
 from blocwatch.pipeline.build.edges import EDGE_COLUMNS, strongest_pairs

@@ -3,7 +3,7 @@
 Resampling ballots shows how much a figure depends on the agenda; in a body of a handful of
 members it depends as much on who sits on it, which ballots cannot show. Leaving out one member
 at a time and recomputing every metric gives that spread (Efron & Tibshirani 1993, ch. 11);
-:func:`blocwatch.metrics.intervals.metric_interval` widens the ballot interval by it.
+:func:`blocwatch.metrics.uncertainty.intervals.metric_interval` widens the ballot interval by it.
 """
 
 from __future__ import annotations
@@ -11,9 +11,9 @@ from __future__ import annotations
 import numpy as np
 
 from blocwatch.metrics import compute_all
-from blocwatch.metrics.intervals import SMALL_BODY
-from blocwatch.metrics.positions import with_ideal_points
-from blocwatch.metrics.resampling import jackknife_se
+from blocwatch.metrics.space.positions import with_ideal_points
+from blocwatch.metrics.uncertainty.intervals import SMALL_BODY
+from blocwatch.metrics.uncertainty.resampling import jackknife_se
 from blocwatch.pipeline.build.matrices import VoteMatrix
 
 __all__ = ["member_jackknife_se"]
@@ -23,8 +23,8 @@ def member_jackknife_se(vm: VoteMatrix, labels: np.ndarray, opts, seed: int,
                         names: list[str], families: list[str] | None,
                         period_input) -> dict[str, float]:
     """Each metric's delete-one-member jackknife standard error, for bodies of fewer than
-    :data:`~blocwatch.metrics.intervals.SMALL_BODY` members (empty otherwise: larger bodies
-    keep the ballot interval alone).
+    :data:`~blocwatch.metrics.uncertainty.intervals.SMALL_BODY` members (empty otherwise: larger
+    bodies keep the ballot interval alone).
 
     ``period_input(votes, labels, opts, seed, scales=...)`` builds the metric input of the
     reduced body (passed in by the caller, :mod:`blocwatch.pipeline.build.compute`). A metric

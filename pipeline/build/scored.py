@@ -2,7 +2,7 @@
 answers of each kind as the arrays agreement and the period filter read.
 
 The kind of answer decides when two answers are alike and how far apart they are (see
-:mod:`blocwatch.metrics.scales`):
+:mod:`blocwatch.metrics.agreement.scales`):
 
 * binary — same position or not (as for every yes/no body);
 * categorical — same option or not; any two different options are equally far apart;

@@ -10,7 +10,7 @@ ballots cast alike, so nothing changes there.
 (binary, categorical: unweighted; ordinal: linear or quadratic weights) and, for amounts,
 Pearson's r; a body mixing kinds takes their mean weighted by the shared ballots of each kind.
 These are signed, and negative weights break modularity's degree null model (see
-:func:`blocwatch.metrics.modularity.group_modularity`), so the
+:func:`blocwatch.metrics.graph.modularity.group_modularity`), so the
 graph gets **max(κ, 0)**: chance-level and worse-than-chance pairs get no tie, and 0 keeps its
 meaning "no affinity beyond chance". (κ + 1)/2 was rejected: it gives every chance-level pair
 weight ½ and brings back the compression of Q that dense graphs suffer.
@@ -23,15 +23,15 @@ from __future__ import annotations
 
 import numpy as np
 
-from blocwatch.metrics.kappa import pairwise_kappa
-from blocwatch.metrics.registry import PeriodInput
-from blocwatch.metrics.scales import (
+from blocwatch.metrics.agreement.kappa import pairwise_kappa
+from blocwatch.metrics.agreement.scales import (
     distance_counts,
     match_counts,
     nonnegative,
     pairwise_pearson,
     ratio_matrix,
 )
+from blocwatch.metrics.registry import PeriodInput
 from blocwatch.pipeline.build.agreement import agreement_counts
 from blocwatch.pipeline.build.graphs import build_graph
 from blocwatch.pipeline.build.scored import answer_sets, kind_columns

@@ -1,6 +1,6 @@
 """Trend rows of the subset series: per topic, agenda-standardised, and each pair of groups.
 
-The same tests as the whole-body series (:func:`blocwatch.metrics.trends.trend_summary`:
+The same tests as the whole-body series (:func:`blocwatch.metrics.change.trends.trend_summary`:
 Mann–Kendall, Theil–Sen, change points), one row per (subset, metric). Pairs of groups
 (subset ``pair:<A>|<B>``, metric ``pair_agreement``, A before B alphabetically) are written
 for bodies that have three or more groups in some period: with two groups the single pair is
@@ -14,7 +14,7 @@ import json
 import numpy as np
 import pandas as pd
 
-from blocwatch.metrics.trends import trend_summary
+from blocwatch.metrics.change.trends import trend_summary
 from blocwatch.pipeline.store.database import Store
 
 PAIR_METRIC = "pair_agreement"

@@ -5,8 +5,9 @@ families (:data:`SUBSET_FAMILIES`, plus the costly :data:`TOPIC_FAMILIES`) are c
 topic's ballots alone (subset ``topic:<name>``); a topic with fewer gets a row per metric with
 no value and a note. The agenda-standardised series (subset ``agenda-standardised``) computes
 the cheap families on the directly standardised agreement
-(:func:`blocwatch.metrics.agenda.standardise_agreement`): each pair's agreement is the mean of
-its per-topic agreements weighted by the body's reference topic mix, so a change that only
+(:func:`blocwatch.metrics.change.agenda.standardise_agreement`): each pair's agreement is
+the mean of its
+per-topic agreements weighted by the body's reference topic mix, so a change that only
 comes from the agenda's make-up leaves it flat.
 
 Intervals come from one stratified bootstrap: every replicate resamples ballots within each
@@ -24,9 +25,9 @@ import numpy as np
 import pandas as pd
 
 from blocwatch.metrics import compute_all
-from blocwatch.metrics.agenda import standardise_agreement, stratified_ballot_weights
+from blocwatch.metrics.change.agenda import standardise_agreement, stratified_ballot_weights
 from blocwatch.metrics.registry import FAMILIES, PeriodInput
-from blocwatch.metrics.resampling import percentile_interval
+from blocwatch.metrics.uncertainty.resampling import percentile_interval
 from blocwatch.pipeline.build.graphs import build_graph
 from blocwatch.pipeline.options import NO_TOPIC, parse_rule
 

@@ -39,7 +39,7 @@ FIELDS: dict[str, tuple[str, tuple[str, ...]]] = {
     "title": ("title", ("title", "ballot_title", "motion")),
     "item": ("item", ("item", "agenda_item")),
     # One topic per ballot (policy area, committee, ...): per-topic and agenda-standardised
-    # measures (blocwatch.metrics.agenda).
+    # measures (blocwatch.metrics.change.agenda).
     "topic": ("topic", ("topic", "policy_area")),
     "valid_from": ("valid_from", ("valid_from", "from", "since", "start")),
     "valid_to": ("valid_to", ("valid_to", "to", "until", "end")),

@@ -24,7 +24,7 @@ def metric_list() -> pd.DataFrame:
     """Every registered metric with its reference (``checks`` joined by " | ")."""
     from blocwatch.metrics import FAMILIES
     from blocwatch.metrics.registry import metric_info, metric_names
-    from blocwatch.metrics.resampling import INTERVAL_WORDS
+    from blocwatch.metrics.uncertainty.resampling import INTERVAL_WORDS
 
     family_of = {m: fam for fam in FAMILIES.values() for m in fam.metrics}
     rows = []

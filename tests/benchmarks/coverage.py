@@ -31,7 +31,7 @@ if __name__ == "__main__":  # as a script: make ``tests`` importable (pytest alr
     sys.path.insert(0, str(ROOT))
 
 from blocwatch.metrics import registry  # noqa: E402
-from blocwatch.metrics.resampling import INTERVAL_METHODS, bootstrap_interval  # noqa: E402
+from blocwatch.metrics.uncertainty.resampling import INTERVAL_METHODS, bootstrap_interval  # noqa: E402
 from blocwatch.pipeline.build.compute import BuildOptions, compute_period  # noqa: E402
 from blocwatch.pipeline.build.matrices import VoteMatrix  # noqa: E402
 from blocwatch.pipeline.build.periods import Period  # noqa: E402

@@ -13,7 +13,7 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
-from blocwatch.dashboards.chart import slug
+from blocwatch.dashboards.charts.chart import slug
 from tests.browser_util import Browser, chromium_path
 from tests.interval_checks import assert_no_silent_contradiction
 

@@ -11,7 +11,7 @@ from pathlib import Path
 
 import pytest
 
-from blocwatch.dashboards.html import plotly_js
+from blocwatch.dashboards.pages.html import plotly_js
 from blocwatch.dashboards.report import write_report
 from tests.browser_util import Browser, chromium_path
 from tests.dash_synthetic import EVIL_GROUP, EVIL_MEMBER, HARBOUR, make_tables

@@ -13,7 +13,7 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
-from blocwatch.metrics.intervals import MIN_REPLICATES
+from blocwatch.metrics.uncertainty.intervals import MIN_REPLICATES
 from blocwatch.pipeline.build.builder import build
 from blocwatch.pipeline.build.executors import ExecutorSpec, make_executor
 from blocwatch.pipeline.demo.assembly import BODY, generate
@@ -21,7 +21,7 @@ from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.store.database import Store
 
-# The fewest replicates that still give an interval (metrics.intervals.MIN_REPLICATES).
+# The fewest replicates that still give an interval (metrics.uncertainty.intervals.MIN_REPLICATES).
 OPTS = BuildOptions(bootstrap=MIN_REPLICATES, permutations=6, expensive_replicates=2)
 TABLES = ("periods", "period_metrics", "member_metrics", "group_agreement", "trends")
 YEARS = {str(y) for y in range(2001, 2004)}

@@ -17,7 +17,7 @@ from datetime import date, timedelta
 import pandas as pd
 import pytest
 
-from blocwatch.dashboards.chart import slug
+from blocwatch.dashboards.charts.chart import slug
 from blocwatch.metrics.registry import ABSTAIN, NO, YES
 from tests.spatial_sim import spatial_votes
 

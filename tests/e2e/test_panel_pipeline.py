@@ -14,7 +14,8 @@ from blocwatch.pipeline.demo import panel as demo_panel
 from blocwatch.pipeline.errors import BadInputError
 from blocwatch.pipeline.store.database import Store
 
-# 20 replicates: the fewest that still store an interval (metrics.intervals.MIN_REPLICATES).
+# 20 replicates: the fewest that still store an interval
+# (metrics.uncertainty.intervals.MIN_REPLICATES).
 FAST = ("--bootstrap", 20, "--permutations", 10, "--expensive-replicates", 3)
 
 

@@ -103,5 +103,5 @@ def test_negative_control_build_loads_the_compute_stack(store, tmp_path):
     assert code == 0
     assert _hits(modules, ("blocwatch.metrics", "sklearn", "blocwatch.pipeline.build.compute"))
     found = _hits(modules, STATUS_BANNED, STATUS_ALLOWED)
-    assert {"blocwatch.pipeline.build.compute", "blocwatch.metrics.modularity"} <= set(found)
+    assert {"blocwatch.pipeline.build.compute", "blocwatch.metrics.graph.modularity"} <= set(found)
     assert not set(STATUS_ALLOWED) & set(found)

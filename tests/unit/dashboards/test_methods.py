@@ -6,9 +6,10 @@ import re
 import numpy as np
 import pandas as pd
 
-from blocwatch.dashboards import labels, palette
-from blocwatch.dashboards.briefing import build_briefing
-from blocwatch.dashboards.safe import esc
+from blocwatch.dashboards.charts import palette
+from blocwatch.dashboards.pages.briefing import build_briefing
+from blocwatch.dashboards.pages.safe import esc
+from blocwatch.dashboards.prose import labels
 from blocwatch.dashboards.tables import ReportTables
 from blocwatch.metrics.registry import metric_names
 from blocwatch.pipeline.report.metric_list import metric_list

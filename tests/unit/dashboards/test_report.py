@@ -7,9 +7,9 @@ import pandas as pd
 import pytest
 
 from blocwatch.dashboards.errors import ImageExportUnavailable, ReportInputError
-from blocwatch.dashboards.html import PLOTLY_BUNDLE, plotly_js
+from blocwatch.dashboards.pages.html import PLOTLY_BUNDLE, plotly_js
+from blocwatch.dashboards.pages.safe import esc as html_text
 from blocwatch.dashboards.report import body_slugs, write_report
-from blocwatch.dashboards.safe import esc as html_text
 from blocwatch.dashboards.tables import ReportTables
 from tests.dash_synthetic import EVIL_GROUP, EVIL_MEMBER, HARBOUR, TARN, make_tables
 

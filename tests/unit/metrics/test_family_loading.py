@@ -7,10 +7,11 @@ import sys
 
 FIRST_USE = """
 import json, sys
-import blocwatch.metrics.positions  # a family module imported out of turn, before the others
+import blocwatch.metrics.space.positions  # a family module imported out of turn, before the others
 from blocwatch.metrics import registry
-light = not any(m.startswith("blocwatch.metrics.modularity") for m in sys.modules)
-order = [f.func.__module__.rsplit(".", 1)[1] for f in registry.FAMILIES.values()]
+light = not any(m.startswith("blocwatch.metrics.graph.modularity") for m in sys.modules)
+order = [f.func.__module__.removeprefix("blocwatch.metrics.")
+         for f in registry.FAMILIES.values()]
 print(json.dumps({"light": light, "order": order, "modules": list(registry.FAMILY_MODULES)}))
 """
 

@@ -3,7 +3,9 @@
 import numpy as np
 import pytest
 
-from blocwatch.metrics import bridges, cohesion, member_registry
+from blocwatch.metrics import member_registry
+from blocwatch.metrics.agreement import cohesion
+from blocwatch.metrics.graph import bridges
 from blocwatch.metrics.member_registry import MEMBER_FAMILIES, compute_members
 from blocwatch.metrics.registry import PeriodInput
 from tests.spatial_sim import spatial_votes

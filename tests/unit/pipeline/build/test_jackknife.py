@@ -6,8 +6,8 @@ from datetime import date
 import numpy as np
 
 from blocwatch.metrics import compute_all
-from blocwatch.metrics.intervals import SMALL_BODY
-from blocwatch.metrics.resampling import jackknife_se
+from blocwatch.metrics.uncertainty.intervals import SMALL_BODY
+from blocwatch.metrics.uncertainty.resampling import jackknife_se
 from blocwatch.pipeline.build.compute import compute_period, period_input
 from blocwatch.pipeline.build.jackknife import member_jackknife_se
 from blocwatch.pipeline.build.matrices import VoteMatrix

@@ -121,7 +121,7 @@ def test_costly_families_per_topic_tell_the_divisive_topic_apart(shifted):
 
 def test_costly_topic_intervals_use_the_capped_replicates(tmp_path):
     # 25 replicates, the costly families capped at 20 (the fewest that give an interval,
-    # metrics.intervals.MIN_REPLICATES): their per-topic rows carry intervals too.
+    # metrics.uncertainty.intervals.MIN_REPLICATES): their per-topic rows carry intervals too.
     ballots = {y: [(f"{y}-{k:03d}", "budget" if k % 2 else "roads") for k in range(40)]
                for y in YEARS}
     _write_body(tmp_path / "v.csv", {"L": 8, "R": 8}, ballots, _shift_vote)

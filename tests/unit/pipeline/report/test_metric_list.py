@@ -49,7 +49,7 @@ def test_unknown_format_is_a_usage_error():
 def test_every_metric_names_its_interval_method_and_reference():
     # Issue 12: the interval method of each family is documented where users read the list.
     from blocwatch.metrics import FAMILIES
-    from blocwatch.metrics.resampling import INTERVAL_WORDS
+    from blocwatch.metrics.uncertainty.resampling import INTERVAL_WORDS
 
     frame = metric_list().set_index("metric")
     for fam in FAMILIES.values():

@@ -1,0 +1,1 @@
+"""The charts: networks, trends, group heat maps, agenda, trajectories, colours, images."""

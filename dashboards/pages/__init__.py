@@ -1,0 +1,1 @@
+"""The pages: briefing and comparison, the HTML shell and style, embeds, escaping."""

@@ -1,0 +1,1 @@
+"""Words from numbers: labels, typeset numbers, verdict and headline, fixed texts, tables."""

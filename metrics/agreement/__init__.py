@@ -1,0 +1,1 @@
+"""How members and groups agree: kappa, scored agreement, Krippendorff's alpha, cohesion."""

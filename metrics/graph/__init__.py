@@ -1,0 +1,1 @@
+"""Measures of the agreement graph: modularity, communities, cross-group ties, bridging."""

@@ -1,0 +1,1 @@
+"""How sure a figure is: ballot bootstrap, each metric's interval, label-permutation nulls."""
