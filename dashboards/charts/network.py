@@ -1,9 +1,12 @@
 """The network picture of one body in one period.
 
-Members are nodes coloured by group and sized by a bridge score; ties are drawn in a few opacity
-steps so strong agreement reads darker. Nodes sit at their stored map positions (``mds_1``,
-``mds_2``) when every member has them, otherwise at a seeded networkx spring layout: placement is
-layout, not a measure, and the same seed gives the same picture.
+Members are nodes coloured by group and sized by a bridge score. The ties drawn are the ones the
+build stored: the graph rule's edge set, strongest first (``weighted``: the pairs above the
+equal-likelihood level, which the tie-count measures count), not every pair; the caption says
+which. They are drawn in a few opacity steps so strong agreement reads darker. Nodes sit at
+their stored map positions (``mds_1``, ``mds_2``) when every member has them, otherwise at a
+seeded networkx spring layout: placement is layout, not a measure, and the same seed gives the
+same picture.
 """
 
 from __future__ import annotations
@@ -26,6 +29,44 @@ BRIDGE_METRICS = ("bridging", "participation", "cross_tie_share", "delta_q", "cr
 # (shown under "Who is counted", never drawn as nodes or used as a score).
 ROSTER_METRICS = ("left_out", "placement")
 EDGE_STEPS = (0.06, 0.14, 0.26, 0.45)  # opacity per agreement quartile of the drawn range
+# Which ties each graph rule keeps, for the caption ({level}: the rule's number).
+RULE_TIES = {
+    "weighted": "those above the equal-likelihood level (Andris et al. 2015), the ties the "
+                "tie-count measures count; group modularity weighs every pair",
+    "equal-likelihood": "those above the equal-likelihood level (Andris et al. 2015), the graph "
+                        "the measures use",
+    "threshold": "those agreeing on at least {level} of their shared ballots (rule "
+                 "threshold:{level})",
+    "backbone": "those of the disparity backbone at significance {level} (Serrano, Boguñá & "
+                "Vespignani 2009): each member's partners that stand out among its own",
+}
+
+
+def ties_note(rule: str | None, n_stored: int, n_drawn: int, n_pairs: int | None,
+              weakest: float | None, budget: int | None = None) -> str:
+    """Caption sentence saying which ties the picture draws.
+
+    >>> ties_note("backbone:0.2", 12, 10, 45, 0.71)[:60]
+    'Ties drawn: 12 of the 45 pairs with an agreement value, thos'
+    >>> ties_note("backbone:0.2", 12, 10, 45, 0.71)[-32:]
+    'Only the 10 strongest are drawn.'
+    """
+    kind, _, level = (rule or "").partition(":")
+    total = f" of the {n_pairs} pairs with an agreement value" if n_pairs else ""
+    if kind not in RULE_TIES:  # results that do not say which rule made them
+        had = f" ({n_pairs} pairs had an agreement value)" if n_pairs else ""
+        return f"Ties drawn: the {n_drawn} strongest of {n_stored} stored ties{had}."
+    which = RULE_TIES[kind].format(level=level)
+    if n_stored == 0:
+        return f"Ties drawn: none — the graph rule kept no pair{total} ({which})."
+    out = f"Ties drawn: {n_stored}{total}, {which}"
+    out += f"; the weakest drawn agree on {numbers.fmt(weakest)}." if weakest is not None \
+        else "."
+    if budget and n_stored >= budget:
+        out += f" The build stores at most {budget} ties a period, the strongest."
+    if n_drawn < n_stored:
+        out += f" Only the {n_drawn} strongest are drawn."
+    return out
 
 
 def member_scores(members: pd.DataFrame, body: str, period: str) -> pd.DataFrame:
@@ -64,11 +105,13 @@ def _positions(nodes: pd.DataFrame, edges: pd.DataFrame, seed: int) -> tuple[np.
 
 def network_chart(members: pd.DataFrame, edges: pd.DataFrame, body: str, period: str, *,
                   colours: dict[str, str], bridge: str | None = None, seed: int = 0,
-                  max_edges: int = 3000) -> Chart:
+                  max_edges: int = 3000, rule: str | None = None,
+                  budget: int | None = None) -> Chart:
     """Network figure of ``body`` in ``period`` (see module docstring).
 
     ``colours`` maps group → colour (``palette.group_colours``); ``max_edges`` keeps only the
-    strongest ties so large bodies stay light (the caption says so when it applies).
+    strongest ties so large bodies stay light; ``rule`` is the graph rule the stored ties come
+    from and ``budget`` the most ties a build stores per period (both for the caption).
     """
     name = f"network-{period}"
     scores = member_scores(members, body, period)
@@ -95,10 +138,10 @@ def network_chart(members: pd.DataFrame, edges: pd.DataFrame, body: str, period:
     note = f"Position: {layout_note}."
     if bridge:
         note += f" Node size: {labels.member_label(bridge)}."
-    # The build stores only a period's strongest pairs; n_pairs counts all it had.
-    total = int(e["n_pairs"].max()) if "n_pairs" in e and e["n_pairs"].notna().any() else len(e)
-    if len(kept) < total:
-        note += f" Only the {len(kept)} strongest of {total} ties are drawn."
+    # n_pairs: every pair of the period with an agreement value, drawn or not.
+    total = int(e["n_pairs"].max()) if "n_pairs" in e and e["n_pairs"].notna().any() else None
+    note += " " + ties_note(rule, len(e), len(kept), total,
+                            float(kept["agreement"].min()) if len(kept) else None, budget)
     groups = nodes["group_name"].fillna("no group").value_counts()
     alt = (f"Network of {len(nodes)} members of {body} in {period}, coloured by group ("
            + ", ".join(f"{g}: {n}" for g, n in groups.items())

@@ -88,7 +88,9 @@ def build_briefing(tables: ReportTables, body: str, *, colours: dict[str, str],
                      "</p>")
     for period in chosen:
         c = network_chart(t.members, t.edges, body, period, colours=colours, bridge=bridge,
-                          seed=seed, max_edges=max_edges)
+                          seed=seed, max_edges=max_edges,
+                          rule=(tables.provenance.get("parameters") or {}).get("rule"),
+                          budget=tables.provenance.get("edge_budget"))
         charts.append(c)
         cols = {"name": "Member", "group_name": "Group"}
         cols |= {k: labels.member_label(k) for k in c.data.columns

@@ -199,7 +199,8 @@ def compute_period(vm: VoteMatrix, opts: BuildOptions, version: str, *,
         rows.append([m, value, iv.low, iv.high, null.get("mean", np.nan),
                      null.get("z", np.nan), null.get("p", np.nan), note])
     metrics = pd.DataFrame(rows, columns=METRIC_COLUMNS)
-    edges, n_pairs = strongest_pairs(inp.agreement, vm.member_ids, EDGE_BUDGET)
+    # The picture draws the ties the rule keeps (the edge set), not every pair.
+    edges, n_pairs = strongest_pairs(inp.agreement, vm.member_ids, EDGE_BUDGET, keep=inp.edges)
     return PeriodResult(vm.body, vm.period.name, vm.period.start, vm.period.end, inp.n,
                         int(vm.votes.shape[1]), vm.dropped, fp, metrics,
                         members, _group_rows(vm, inp, pair_intervals),

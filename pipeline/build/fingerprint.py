@@ -16,6 +16,11 @@ import numpy as np
 from blocwatch.pipeline.build.matrices import VoteMatrix
 from blocwatch.pipeline.options import BuildOptions
 
+# What a period's stored results hold, beyond the figures: raised when that changes, so stored
+# periods read as changed and the next build recomputes them. 2: the stored pairs are the graph
+# rule's edge set (before: the strongest of all pairs).
+RESULTS_LAYOUT = 2
+
 
 def fingerprint(vm: VoteMatrix, opts: BuildOptions, version: str) -> str:
     """Hash of the period's votes, the groups in force, the parameters and the tool version."""
@@ -30,4 +35,5 @@ def fingerprint(vm: VoteMatrix, opts: BuildOptions, version: str) -> str:
         h.update(vm.scales.digest())
     h.update(json.dumps(opts.params(), sort_keys=True, default=str).encode())
     h.update(version.encode())
+    h.update(f"results layout {RESULTS_LAYOUT}".encode())
     return h.hexdigest()

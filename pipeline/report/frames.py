@@ -10,7 +10,7 @@ import hashlib
 import json
 
 from blocwatch.pipeline.errors import UsageError
-from blocwatch.pipeline.options import BuildOptions
+from blocwatch.pipeline.options import EDGE_BUDGET, BuildOptions
 from blocwatch.pipeline.report.export import export_frame
 from blocwatch.pipeline.store.bodies import require_body, require_periods, require_results
 from blocwatch.pipeline.store.database import Store
@@ -37,9 +37,10 @@ def report_frames(store: Store, *, body: str | None = None,
     """Every frame and the provenance a report needs, as keyword arguments for ReportTables.
 
     ``measures`` is the methods reference of the metrics the build computed, as it stored it.
-    ``edges`` holds the pairs the build stored for each period (the strongest
-    ``EDGE_BUDGET``, with the period's count of pairs in ``n_pairs``); which periods are
-    drawn is the dashboards' choice (``periods``, else first, last and change points).
+    ``edges`` holds the pairs the build stored for each period (the graph rule's edge set,
+    strongest first, at most ``EDGE_BUDGET``, which the provenance carries for the caption;
+    the period's count of pairs with a value in ``n_pairs``); which periods are drawn is the
+    dashboards' choice (``periods``, else first, last and change points).
     """
     targets = require_body(store, body)
     require_results(store, targets)
@@ -56,6 +57,6 @@ def report_frames(store: Store, *, body: str | None = None,
                              ).hexdigest()[:16]
     provenance = {"data_fingerprint": data_fp, "tool_version": tool_version(),
                   "run_id": int(run["run_id"]), "run_time": str(run["finished"]),
-                  "parameters": opts.params()}
+                  "parameters": opts.params(), "edge_budget": EDGE_BUDGET}
     return {"metrics": metrics, "members": members, "group_agreement": groups,
             "trends": trends, "edges": edges, "measures": measures, "provenance": provenance}

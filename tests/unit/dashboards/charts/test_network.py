@@ -8,6 +8,7 @@ import pandas as pd
 from blocwatch.dashboards.charts.groups import heatmap_chart
 from blocwatch.dashboards.charts.network import member_scores, network_chart
 from blocwatch.dashboards.charts.palette import group_colours
+from blocwatch.dashboards.prose import numbers
 from blocwatch.dashboards.prose.bridges import top_bridges
 from tests.dash_synthetic import EVIL_GROUP, EVIL_MEMBER, HARBOUR, make_tables
 
@@ -54,7 +55,25 @@ def test_max_edges_keeps_the_strongest():
     kept = chart.extra["edges"]["agreement"]
     ties = t.edges[(t.edges.body == HARBOUR) & (t.edges.period == "2001")]["agreement"]
     assert np.allclose(sorted(kept), sorted(ties.nlargest(5)))
-    assert "Only the 5 strongest of 66 ties" in chart.note  # 12 members: 12*11/2 = 66 pairs
+    # 12 members: 12*11/2 = 66 pairs; the synthetic tables name no graph rule.
+    assert "Ties drawn: the 5 strongest of 66 stored ties" in chart.note
+
+
+def test_caption_says_which_ties_the_rule_kept():
+    t = make_tables()
+    ties = t.edges[(t.edges.body == HARBOUR) & (t.edges.period == "2001")]
+    weakest = numbers.fmt(ties["agreement"].min())
+    weighted = _chart(t, rule="weighted").note
+    assert f"Ties drawn: {len(ties)}, those above the equal-likelihood level" in weighted
+    assert "tie-count measures" in weighted and f"the weakest drawn agree on {weakest}" in weighted
+    backbone = _chart(t, rule="backbone:0.2", max_edges=5, budget=len(ties)).note
+    assert "disparity backbone at significance 0.2" in backbone
+    assert f"at most {len(ties)} ties a period" in backbone
+    assert "Only the 5 strongest are drawn." in backbone
+    none = t.edges.iloc[:0]
+    empty = network_chart(t.members, none, HARBOUR, "2001", rule="threshold:0.9",
+                          colours=group_colours(t.groups(), t.colours)).note
+    assert "Ties drawn: none — the graph rule kept no pair" in empty and "at least 0.9" in empty
 
 
 def test_hover_and_legend_escape_user_strings():
