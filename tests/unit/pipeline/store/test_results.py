@@ -16,9 +16,11 @@ from blocwatch.pipeline.store.results import period_edges
 from tests import toy_rollcall as toy
 
 # Every ballot counts (the hand values include the unanimous v3) and 4 shared ballots suffice.
-OPTS = BuildOptions(bootstrap=0, permutations=0,
-                    agreement=AgreementOptions(min_shared=1, drop_unanimous=False))
 HAND = {(toy.MEMBERS[i], toy.MEMBERS[j]): float(v) for (i, j), v in toy.AGREEMENT_PAIRS.items()}
+# The build stores the graph rule's edge set; a threshold at the weakest hand value keeps every
+# pair, so every hand value can be read back.
+OPTS = BuildOptions(bootstrap=0, permutations=0, rule=f"threshold:{min(HAND.values())}",
+                    agreement=AgreementOptions(min_shared=1, drop_unanimous=False))
 
 
 @pytest.fixture()
@@ -37,6 +39,23 @@ def test_build_stores_every_pair_with_its_hand_value(built):
     assert got == pytest.approx(HAND)
     assert set(edges["n_pairs"]) == {len(HAND)}
     assert edges["agreement"].is_monotonic_decreasing  # strongest first
+
+
+def test_weighted_rule_stores_the_equal_likelihood_ties(tmp_path):
+    # Derived by hand from the toy's agreement: same-group pairs agree 1 or 3/4, cross-group
+    # pairs 1/4 or 1/2 except A3–B3 (3/4). The cut at 1/2 puts one pair on the wrong side
+    # (A3–B3 above it); a cut at 3/4 or above misplaces four same-group pairs, one below 1/2
+    # at least two cross pairs. So the equal-likelihood ties are the pairs above 1/2: the six
+    # within-group pairs and A3–B3.
+    path = tmp_path / "w.duckdb"
+    with Store(path) as store:
+        ingest_files(store, [toy.write_csv(tmp_path / "toy.csv")], body="Toy")
+        build(store, options=BuildOptions(bootstrap=0, permutations=0,
+                                          agreement=OPTS.agreement))
+        edges = period_edges(store, "Toy")
+    got = {(a, b) for a, b in edges[["member_a", "member_b"]].values}
+    assert got == {pair for pair, v in HAND.items() if v > 0.5}
+    assert len(got) == 7 and set(edges["n_pairs"]) == {15}
 
 
 def test_report_shows_the_stored_pairs_even_after_new_votes(built, tmp_path):
