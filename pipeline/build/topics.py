@@ -44,6 +44,8 @@ SUBSET_COLUMNS = ["subset", "metric", "value", "low", "high", "n_ballots", "note
 OUTSIDE_NOTE = ("the estimate lies outside its bootstrap interval: resampled ballots shift this "
                 "measure (ballots drawn twice add apparent structure), so read the interval as "
                 "rough")
+FLAT_NOTE = ("no spread: every resample of these ballots gave the same value, so the interval "
+             "cannot show the uncertainty; read it as unknown")
 
 
 def subset_metric_names(families=SUBSET_FAMILIES + TOPIC_FAMILIES) -> list[str]:
@@ -155,4 +157,6 @@ def _row(subset: str, metric: str, value, sample: np.ndarray, n: int) -> list:
     if ok and not low - 1e-12 <= value.value <= high + 1e-12:
         # Said, not hidden: a percentile interval of a biased statistic can miss its estimate.
         note = ((note + "; ") if note else "") + OUTSIDE_NOTE
+    elif ok and high - low <= 1e-12:  # a flat interval is not certainty (issue 12)
+        note = ((note + "; ") if note else "") + FLAT_NOTE
     return [subset, metric, value.value if ok else np.nan, low, high, n, note]

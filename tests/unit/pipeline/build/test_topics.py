@@ -191,3 +191,17 @@ def test_pair_series_finds_the_pair_that_drifted(tmp_path):
     assert steepest == "pair:A|C"
     assert pairs.loc["pair:A|C", "mk_p"] < 0.05
     assert pd.isna(pairs.loc["pair:A|B", "mk_p"]) or pairs.loc["pair:A|B", "mk_p"] > 0.05
+
+
+def test_topic_row_with_a_flat_interval_says_it_shows_no_spread():
+    # Issue 12 on the demo: 22 topic rows stored "communities 2 [2, 2]" with no note. A flat
+    # interval is not certainty; an interval with width keeps its note as it was.
+    from blocwatch.metrics.registry import MetricValue
+    from blocwatch.pipeline.build.topics import FLAT_NOTE, _row
+
+    flat = _row("topic:Harbour levies", "communities", MetricValue(2.0), np.full(30, 2.0), 19)
+    assert flat[3] == flat[4] == 2.0 and flat[-1] == FLAT_NOTE
+    assert "no spread" in FLAT_NOTE
+    spread = _row("topic:Harbour levies", "communities", MetricValue(2.0),
+                  np.r_[np.full(20, 2.0), np.full(10, 3.0)], 19)
+    assert spread[-1] is None
