@@ -121,7 +121,8 @@ def write_report(out_dir: str | os.PathLike, tables: ReportTables, *,
     browser = None
     if images:
         browser = find_browser(browser_path)  # fail before writing anything
-    colours = palette.group_colours(tables.groups(), tables.colours)
+    colours = palette.group_colours({b: tables.for_body(b).groups() for b in known},
+                                    tables.colours)
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
     keys = body_slugs(known)

@@ -2,9 +2,10 @@
 
 The hues are the eight of Okabe & Ito's colour-universal-design set (chosen to stay distinct
 under the common colour-vision deficiencies), with the pale yellow swapped for a dark grey-brown
-so lines stay readable on white paper, put in an order of our own: most distinct first. Groups
-get colours in sorted-name order, so one group keeps its colour on every page of a report;
-users override any group with ``ReportTables.colours``.
+so lines stay readable on white paper, put in an order of our own: most distinct first. Each
+body's groups get colours in sorted-name order from the start of the palette, once per report,
+so one group keeps its colour on every page; users override any group with
+``ReportTables.colours``.
 """
 
 from __future__ import annotations
@@ -55,13 +56,27 @@ def check_colour(group: str, colour: str) -> str:
     return colour.strip()
 
 
-def group_colours(groups: list[str], overrides: dict[str, str] | None = None) -> dict[str, str]:
+def group_colours(groups, overrides: dict[str, str] | None = None) -> dict[str, str]:
     """Map each group to a colour: the palette in sorted-name order, then user overrides.
+
+    ``groups`` is a list, or a dict body -> its groups: then each body's groups take the first
+    palette colours its other groups do not use, so every body starts from the most distinct
+    hues (a report of several bodies does not push one body's groups down the palette), and a
+    group named in two bodies keeps the colour it got first.
 
     >>> group_colours(["Reds", "Blues"], {"Reds": "#aa0000"})
     {'Blues': '#0072B2', 'Reds': '#aa0000'}
+    >>> group_colours({"Board": ["Aft", "Bow"], "Panel": ["Cedar", "Bow"]})
+    {'Aft': '#0072B2', 'Bow': '#E69F00', 'Cedar': '#0072B2'}
     """
-    out = {g: PALETTE[i % len(PALETTE)] for i, g in enumerate(sorted(set(groups)))}
+    by_body = groups if isinstance(groups, dict) else {None: groups}
+    out: dict[str, str] = {}
+    for names in by_body.values():
+        names = sorted(set(names))
+        taken = {out[g] for g in names if g in out}
+        free = [c for c in PALETTE if c not in taken]
+        for g in (g for g in names if g not in out):
+            out[g] = free.pop(0) if free else PALETTE[len(out) % len(PALETTE)]
     for group, colour in (overrides or {}).items():
         out[group] = check_colour(group, colour)
     return out

@@ -99,3 +99,15 @@ def test_first_colours_are_the_most_distinct():
     oranges = [PALETTE.index("#D55E00"), PALETTE.index("#E69F00")]
     assert max(oranges) >= 6
     assert ours[1] > 30  # three groups: clearly apart (ΔE' ≈ 2 is just noticeable, from memory)
+
+
+def test_every_body_starts_from_the_most_distinct_colours():
+    # A report of two bodies: the panel's groups sort before the board's, yet each body's own
+    # groups take the first palette colours; a group in both bodies keeps one colour (the
+    # panel's Lantern holds blue, so Field and Modelling take the next two).
+    colours = group_colours({"Board": ["Tideward", "Lantern", "Upland"],
+                             "Panel": ["Field", "Modelling", "Lantern"]}, {"Upland": "teal"})
+    assert [colours[g] for g in ("Lantern", "Tideward")] == list(PALETTE[:2])
+    assert colours["Upland"] == "teal"  # the override wins
+    assert [colours[g] for g in ("Field", "Modelling")] == list(PALETTE[1:3])
+    assert colours["Lantern"] == PALETTE[0]
