@@ -23,6 +23,7 @@ from blocwatch.pipeline.store.results import (
     drop_periods_except,
     metric_series,
     replace_trends,
+    stored_specs,
     write_measures,
     write_period,
 )
@@ -37,6 +38,8 @@ class BuildReport:
     seconds: dict[tuple[str, str], float] = field(default_factory=dict)
     # stored periods the period spec no longer produces, whose results this run dropped
     removed: list[tuple[str, str]] = field(default_factory=list)
+    # the other period specs whose results the store keeps beside this run's (spec -> periods)
+    other_specs: dict[str, int] = field(default_factory=dict)
 
 
 @contextlib.contextmanager
@@ -60,9 +63,10 @@ def recorded_run(store: Store, command: str, params: dict, executor=None,
 
 
 def store_result(store: Store, report: BuildReport, res: PeriodResult, seconds: float,
-                 progress: Callable[[str], None] | None) -> None:
-    """Write one computed period and note it in the report (the single writer's step)."""
-    write_period(store, report.run_id, res)
+                 progress: Callable[[str], None] | None, spec: str) -> None:
+    """Write one computed period (cut by the period spec ``spec``) and note it in the report
+    (the single writer's step)."""
+    write_period(store, report.run_id, res, spec)
     report.periods.append((res.body, res.period_name))
     report.seconds[(res.body, res.period_name)] = seconds
     if progress:
@@ -71,9 +75,10 @@ def store_result(store: Store, report: BuildReport, res: PeriodResult, seconds: 
 
 
 
-def write_trends(store: Store, run_id: int, body: str) -> None:
-    """Mann–Kendall, Theil–Sen and change points for each metric series of a body."""
-    frame = metric_series(store, body)
+def write_trends(store: Store, run_id: int, body: str, spec: str) -> None:
+    """Mann–Kendall, Theil–Sen and change points for each metric series of a body, cut by
+    the period spec ``spec``."""
+    frame = metric_series(store, body, spec)
     rows = []
     for metric, series in frame.groupby("metric", sort=False):
         series = series.dropna(subset=["value"])
@@ -87,7 +92,8 @@ def write_trends(store: Store, run_id: int, body: str) -> None:
                      **{k: summary.get(k) for k in ("n_periods", "mk_s", "mk_z", "mk_p", "tau",
                                                     "slope", "slope_low", "slope_high")},
                      "change_points": json.dumps(cps), "note": summary.get("note") or None})
-    replace_trends(store, body, pd.DataFrame(rows), subset_trend_rows(store, run_id, body))
+    replace_trends(store, body, spec, pd.DataFrame(rows),
+                   subset_trend_rows(store, run_id, body, spec))
 
 
 def _to_compute(store: Store, plan: BodyPlan, opts: BuildOptions, version: str,
@@ -132,8 +138,10 @@ def build(store: Store, *, body: str | None = None, options: BuildOptions | None
             # results come back in period order and are written here, the single writer.
             jobs = _to_compute(store, plan, body_opts, version, only_changed, names, report)
             for res, seconds in pool.map(PeriodJob(body_opts, version), jobs):
-                store_result(store, report, res, seconds, progress)
+                store_result(store, report, res, seconds, progress, opts.period)
             report.removed += [(b, p) for p in plan.removed]  # said by the CLI, not silent
-            drop_periods_except(store, b, [p.name for p in plan.periods])
-            write_trends(store, report.run_id, b)
+            drop_periods_except(store, b, opts.period, [p.name for p in plan.periods])
+            write_trends(store, report.run_id, b, opts.period)
+        report.other_specs = {s: n for s, n in stored_specs(store, targets).items()
+                              if s != opts.period}  # kept beside this run's: said by the CLI
     return report

@@ -211,9 +211,10 @@ def build_partitions(store, root: str | Path, results: str | Path, *, body: str 
             mine = [t for t in tasks if t[0] == b]
             job = PartitionJob(_partition_options(mine, opts), tool_version(), str(results))
             for folder, seconds in pool.map(job, mine):
-                store_result(store, report, read_result(folder), seconds, progress)
-            drop_periods_except(store, b, [p for bb, p, _ in tasks if bb == b])
-            write_trends(store, report.run_id, b)
+                store_result(store, report, read_result(folder), seconds, progress,
+                             opts.period)
+            drop_periods_except(store, b, opts.period, [p for bb, p, _ in tasks if bb == b])
+            write_trends(store, report.run_id, b, opts.period)
     return report
 
 

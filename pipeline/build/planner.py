@@ -11,7 +11,8 @@ over. A period is
 * ``changed`` when its fingerprint (its votes, the groups in force, the build options and the
   tool version; :func:`~blocwatch.pipeline.build.fingerprint.fingerprint`) differs from the stored
   one, and
-* ``removed`` when the store holds results for it but the spec no longer produces it.
+* ``removed`` when the store holds results for it under the same spec but the spec no longer
+  produces it (results of other specs live beside them and are not judged here).
 
 A body's trends are stale when they are older than its newest period (a run killed between
 its last period and its trends).
@@ -115,13 +116,15 @@ def topic_mix(counts) -> tuple:
 
 
 def plan_body(store: Store, body: str, spec: str) -> BodyPlan:
-    stored = stored_fingerprints(store, body)
+    """``body``'s periods under ``spec`` beside the results stored for that spec (results of
+    other specs are neither stale nor removed by it: they live side by side)."""
+    stored = stored_fingerprints(store, body, spec)
     return BodyPlan(body, body_periods(store, body, spec), stored)
 
 
-def trends_stale(store: Store, body: str) -> bool:
+def trends_stale(store: Store, body: str, spec: str) -> bool:
     """Trends are written after a run's last period, so they must be as new as every period."""
-    newest_period, oldest_trend = result_runs(store, body)
+    newest_period, oldest_trend = result_runs(store, body, spec)
     return newest_period is not None and (oldest_trend is None or oldest_trend < newest_period)
 
 
@@ -136,7 +139,7 @@ def stale_periods(store: Store, options: BuildOptions, body: str | None = None) 
         found = [Stale(b, vm.period.name, state) for vm in plan.matrices(store)
                  if (state := plan.state(vm, body_opts, version)) is not None]
         found += [Stale(b, p, "removed") for p in plan.removed]
-        if not found and trends_stale(store, b):
+        if not found and trends_stale(store, b, options.period):
             found.append(Stale(b, None, "trends"))
         out += found
     return out

@@ -33,12 +33,13 @@ def trend_row(series: pd.DataFrame) -> dict:
             "note": summary.get("note") or None}
 
 
-def pair_series(store: Store, body: str) -> pd.DataFrame:
+def pair_series(store: Store, body: str, spec: str) -> pd.DataFrame:
     """``subset, period, value`` of each pair of groups, in period order (≥ 3 groups only)."""
     frame = store.df(
         """SELECT g.group_a, g.group_b, g.period, g.agreement AS value FROM group_agreement g
-           JOIN periods p USING (body, period)
-           WHERE g.body = ? AND g.group_a < g.group_b ORDER BY p.period_start""", [body])
+           JOIN periods p USING (body, spec, period)
+           WHERE g.body = ? AND g.spec = ? AND g.group_a < g.group_b
+           ORDER BY p.period_start""", [body, spec])
     groups = set(frame["group_a"]) | set(frame["group_b"])
     if len(groups) < 3:
         return pd.DataFrame(columns=["subset", "period", "value"])
@@ -46,13 +47,13 @@ def pair_series(store: Store, body: str) -> pd.DataFrame:
     return frame[["subset", "period", "value"]]
 
 
-def subset_trend_rows(store: Store, run_id: int, body: str) -> pd.DataFrame:
-    """Every subset trends row of a body (empty frame when it has no subsets)."""
+def subset_trend_rows(store: Store, run_id: int, body: str, spec: str) -> pd.DataFrame:
+    """Every subset trends row of a body's ``spec`` series (empty frame without subsets)."""
     subsets = store.df(
         """SELECT s.subset, s.metric, s.period, s.value FROM subset_metrics s
-           JOIN periods p USING (body, period) WHERE s.body = ?
-           ORDER BY p.period_start""", [body])
-    pairs = pair_series(store, body).assign(metric=PAIR_METRIC)
+           JOIN periods p USING (body, spec, period) WHERE s.body = ? AND s.spec = ?
+           ORDER BY p.period_start""", [body, spec])
+    pairs = pair_series(store, body, spec).assign(metric=PAIR_METRIC)
     rows = []
     for (subset, metric), series in pd.concat([subsets, pairs]).groupby(["subset", "metric"],
                                                                         sort=True):

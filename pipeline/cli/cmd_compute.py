@@ -56,6 +56,7 @@ def build(ctx, store_path, body, jobs, executor, scheduler, partitions, **flags)
                                progress=progress(ctx, "build"), executor=where)
     click.echo(f"run {report.run_id}: {len(report.periods)} period(s) computed")
     say_removed(report, opts.period)
+    say_kept(report, opts.period)
 
 
 @click.command()
@@ -100,6 +101,7 @@ def rebuild(ctx, store_path, body, full, out, with_report, images, single_file, 
         click.echo(f"note: {note}", err=True)
     if result.build is not None:
         say_removed(result.build, opts.period)
+        say_kept(result.build, opts.period)
     click.echo(result.summary())
     if result.outputs:
         click.echo(f"wrote {len(result.outputs)} file(s) to {out_dir}")
@@ -129,13 +131,24 @@ def status(ctx, store_path, body, as_json, wait, **flags):
 
 
 def say_removed(report, period: str) -> None:
-    """Stored results a build dropped because its period spec no longer produces them."""
+    """Stored results of this spec a build dropped because the spec no longer produces them
+    (a window that was partial and has grown whole, ballots removed)."""
     if report.removed:
         names = ", ".join(f"{b} {p}" for b, p in report.removed[:6])
         more = f" and {len(report.removed) - 6} more" if len(report.removed) > 6 else ""
-        click.echo(f"note: removed the stored results of {len(report.removed)} period(s) that "
-                   f"--period {period} does not produce ({names}{more}); the store keeps one "
-                   f"period spec's results", err=True)
+        click.echo(f"note: removed the stored results of {len(report.removed)} period(s) of "
+                   f"period spec {period!r} that it no longer produces ({names}{more})",
+                   err=True)
+
+
+def say_kept(report, period: str) -> None:
+    """Other period specs' results stay beside this run's: say so, and how to see them."""
+    if report.other_specs:
+        kept = ", ".join(f"{s!r} ({n} period{'s' if n != 1 else ''})"
+                         for s, n in report.other_specs.items())
+        click.echo(f"note: period spec {period!r} is stored beside {kept}, which this run kept "
+                   "as they were; 'blocwatch report' and 'export' show one, chosen with "
+                   "--period SPEC", err=True)
 
 
 COMMANDS = (build, rebuild, status)

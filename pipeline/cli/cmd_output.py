@@ -19,6 +19,26 @@ from blocwatch.pipeline.cli.common import (
 )
 
 
+def period_choice(f):
+    return click.option("--period", default=None, metavar="SPEC",
+                        help="Which stored period spec's results (default: [build] period of "
+                             "blocwatch.toml, else year, when stored; else the only one "
+                             "stored).")(f)
+
+
+def chosen_spec(store, body: str | None, wanted: str | None):
+    """The period spec to show (``--period``, else the one build uses by default, else the
+    only one stored), with why (:func:`~blocwatch.pipeline.store.specs.choose_spec`)."""
+    from blocwatch.pipeline.store.bodies import require_body
+    from blocwatch.pipeline.store.specs import choose_spec
+
+    configured = current_config().section("build").get("period")
+    return choose_spec(store, require_body(store, body), wanted=wanted,
+                       default=configured or options.DEFAULT_PERIOD,
+                       default_why="the [build] period of blocwatch.toml" if configured else
+                       "the default period spec")
+
+
 @click.command()
 @store_option
 @click.option("--table", type=click.Choice(options.EXPORT_TABLES),
@@ -28,22 +48,21 @@ from blocwatch.pipeline.cli.common import (
 @click.option("--body", default=None, help="Only this body.")
 @click.option("--out", type=click.Path(dir_okay=False), default=None,
               help="Output file (default: standard output; parquet needs a file).")
+@period_choice
 @wait_option
 @handle_errors
-def export(store_path, table, fmt, body, out, wait):
+def export(store_path, table, fmt, body, out, period, wait):
     """Export a results table (text cells safe to open in a spreadsheet)."""
     from blocwatch.pipeline.ops.readers import reading_store
     from blocwatch.pipeline.report.export import export_frame, write_frame
-    from blocwatch.pipeline.store.bodies import period_specs, require_body
 
     with reading_store(resolve_store(store_path), wait) as store:
-        frame = export_frame(store, table, body=body)
-        specs = period_specs(store, require_body(store, body))
+        choice = chosen_spec(store, body, period)
+        frame = export_frame(store, table, body=body, spec=choice.spec)
     path = write_frame(frame, fmt, out)
     if path is not None:
         click.echo(f"wrote {len(frame)} rows to {path}", err=True)
-    click.echo("periods: " + "; ".join(f"{b}: period spec {s!r}" for b, s in specs.items()),
-               err=True)
+    click.echo(choice.line(), err=True)
 
 
 @click.command()
@@ -69,17 +88,23 @@ def metrics(fmt):
 @click.option("--images/--no-images", default=False, show_default=True,
               help="Also write PNG and SVG (needs Chromium or Chrome).")
 @single_file_option
+@period_choice
 @wait_option
 @handle_errors
-def report(store_path, body, out, periods, images, single_file, wait):
+def report(store_path, body, out, periods, images, single_file, period, wait):
     """Write the briefing pages, comparison page and embeddable pieces."""
     from blocwatch.pipeline.config import group_colours
+    from blocwatch.pipeline.ops.readers import reading_store
     from blocwatch.pipeline.report.write import write_report
 
-    paths = write_report(resolve_store(store_path), Path(out), body=body,
+    store_path = resolve_store(store_path)
+    with reading_store(store_path, wait) as store:
+        choice = chosen_spec(store, body, period)
+    click.echo(choice.line())
+    paths = write_report(store_path, Path(out), body=body,
                          periods=periods.split(",") if periods else None, images=images,
                          colours=group_colours(current_config()), wait=wait,
-                         single_file=single_file)
+                         single_file=single_file, spec=choice.spec)
     for path in paths:
         if path.suffix == ".html" and path.parent == Path(out):
             click.echo(f"page: {path}")

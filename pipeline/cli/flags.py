@@ -26,7 +26,9 @@ BUILD_SECTION = "build"
 OUTPUT_COMMANDS = ("report", "rebuild")  # their --out comes from top-level ``output``
 _NOT_CONFIGURABLE = ("store_path", "help", "config_path")
 # Flags that say what to do this time rather than how: never taken from the file.
+# export's and report's --period picks stored results; their default is [build] period.
 ACTIONS = {"rebuild": ("full",), "schedule": ("cron", "systemd_dir"), "ingest": ("check",),
+           "export": ("period",), "report": ("period",),
            "remove-body": ("yes",)}
 
 

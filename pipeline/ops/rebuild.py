@@ -38,6 +38,7 @@ from blocwatch.pipeline.ops.sources import SourceFile, config_bodies, scan_sourc
 from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.store.bodies import close_matches
 from blocwatch.pipeline.store.database import Store
+from blocwatch.pipeline.store.results import newest_results_run
 
 MARKER = ".blocwatch-outputs.json"  # in the output folder: the run whose results it shows
 
@@ -74,12 +75,6 @@ class RebuildReport:
                 "; outputs rewritten from the stored results" if self.outputs else "")
         return (f"run {self.build.run_id}: {files}; {len(self.build.periods)} period(s) "
                 f"recomputed, {len(self.build.skipped)} unchanged")
-
-
-def results_run(store: Store) -> int | None:
-    """The newest run whose results the store holds (periods and trends)."""
-    return store.scalar("SELECT max(run_id) FROM (SELECT run_id FROM periods "
-                        "UNION ALL SELECT run_id FROM trends)")
 
 
 def outputs_current(out: str | Path, run_id: int | None) -> bool:
@@ -154,7 +149,7 @@ def rebuild(store_path: str | Path, *, options: BuildOptions | None = None,
                 report.build = build(store, body=body, options=opts, only_changed=not full,
                                      progress=progress, command="rebuild", inputs=inputs,
                                      only=only)
-            newest = results_run(store)
+            newest = newest_results_run(store, opts.period)  # the spec the report shows
         if write_outputs is not None and out is not None and newest is not None and (
                 full or not outputs_current(out, newest)):
             report.outputs = swap_outputs(out, write_outputs, newest)
@@ -179,6 +174,6 @@ def rebuild_with_report(store_path: str | Path, out: str | Path | None = None, *
     cfg = config or read_config()
     folder = Path(out) if out is not None else default_output(cfg)
     write = report_writer(store_path, body=body, images=images, colours=group_colours(cfg),
-                          single_file=single_file)
+                          single_file=single_file, spec=(options or BuildOptions()).period)
     return rebuild(store_path, options=options, config=cfg, body=body, full=full, out=folder,
                    write_outputs=write, progress=progress)

@@ -24,7 +24,7 @@ from blocwatch.pipeline.ops.sources import scan_sources
 from blocwatch.pipeline.options import BuildOptions
 from blocwatch.pipeline.store.bodies import close_matches
 from blocwatch.pipeline.store.database import Store
-from blocwatch.pipeline.store.results import BUILD_COMMANDS
+from blocwatch.pipeline.store.results import BUILD_COMMANDS, stored_periods, stored_specs
 
 
 @dataclass
@@ -34,7 +34,8 @@ class BodyStatus:
     ballots: int = 0
     first_ballot: str | None = None
     last_ballot: str | None = None
-    periods: list[str] = field(default_factory=list)
+    periods: list[str] = field(default_factory=list)  # of the period spec judged
+    other_specs: dict[str, int] = field(default_factory=dict)  # spec -> periods, not judged
     last_ingest: dict | None = None
     stale: list[list] = field(default_factory=list)  # [period, reason]
     pending_files: list[list] = field(default_factory=list)  # [path, state]
@@ -44,6 +45,7 @@ class BodyStatus:
 class StatusReport:
     store: str
     exists: bool
+    spec: str = ""  # the period spec whose results are listed and judged
     lock: dict | None = None  # the holder's record, when a run holds the lock
     bodies: list[BodyStatus] = field(default_factory=list)
     last_run: dict | None = None
@@ -67,7 +69,11 @@ class StatusReport:
                 out.append(f"  {b.ballots} ballots from {b.first_ballot} to {b.last_ballot}, "
                            f"{b.members} members")
             span = f" ({b.periods[0]} .. {b.periods[-1]})" if b.periods else ""
-            out.append(f"  periods built: {len(b.periods)}{span}")
+            out.append(f"  periods built (period spec {self.spec!r}): {len(b.periods)}{span}")
+            if b.other_specs:
+                out.append("  also stored, not judged here: " + ", ".join(
+                    f"period spec {s!r} ({n} period{'s' if n != 1 else ''})"
+                    for s, n in b.other_specs.items()) + " — pass --period SPEC to judge one")
             if b.last_ingest:
                 li = b.last_ingest
                 files = li["files"] if len(li["files"]) <= 3 else \
@@ -121,7 +127,7 @@ def status(store_path: str | Path, *, options: BuildOptions | None = None,
     """
     opts = options or BuildOptions()
     cfg = config or read_config()
-    report = StatusReport(str(store_path), Path(store_path).exists())
+    report = StatusReport(str(store_path), Path(store_path).exists(), opts.period)
     if wait is not None and report.exists:
         wait_for_store(store_path, wait)
     report.lock = lock_holder(store_path)
@@ -150,16 +156,17 @@ def status(store_path: str | Path, *, options: BuildOptions | None = None,
 
 
 def _settings(runs, opts: BuildOptions, sources: dict | None, body: str | None) -> dict | None:
-    """The newest finished build (of ``body``, or of every body) and how its settings differ
-    from ``opts``."""
+    """The newest finished build (of ``body``, or of every body) with the period spec judged
+    (else the newest of any spec), and how its settings differ from ``opts``."""
     done = runs[(runs["status"] == "ok") & runs["command"].isin(BUILD_COMMANDS)] \
         if not runs.empty else runs
-    for _, run in done.iloc[::-1].iterrows():
-        params = json.loads(run["params"])
-        if body is None or params.get("body") in (None, body):
-            changes = settings_changes(params, opts, sources)
-            return {"run_id": int(run["run_id"]), "command": run["command"],
-                    "changes": [{**asdict(c), "text": c.text()} for c in changes]}
+    builds = [(run, json.loads(run["params"])) for _, run in done.iloc[::-1].iterrows()]
+    builds = [(run, p) for run, p in builds if body is None or p.get("body") in (None, body)]
+    same = [(run, p) for run, p in builds if p.get("period") == opts.period]
+    for run, params in (same or builds)[:1]:
+        changes = settings_changes(params, opts, sources)
+        return {"run_id": int(run["run_id"]), "command": run["command"],
+                "changes": [{**asdict(c), "text": c.text()} for c in changes]}
     return None
 
 
@@ -194,8 +201,9 @@ def _bodies(store: Store | None, cfg: Config, opts: BuildOptions,
                                     "WHERE body = ?", [name])[0]
         bs.ballots, bs.first_ballot, bs.last_ballot = int(n), first and str(first), \
             last and str(last)
-        bs.periods = [r[0] for r in store.rows(
-            "SELECT period FROM periods WHERE body = ? ORDER BY period_start", [name])]
+        bs.periods = stored_periods(store, name, opts.period)
+        bs.other_specs = {s: n for s, n in stored_specs(store, [name]).items()
+                          if s != opts.period}
         # One load writes all its files with one time stamp: report that load whole.
         ingest = store.df("SELECT file, rows, loaded_at FROM ingests WHERE body = ? AND "
                           "loaded_at = (SELECT max(loaded_at) FROM ingests WHERE body = ?) "

@@ -13,20 +13,29 @@ from pathlib import Path
 import pandas as pd
 
 from blocwatch.pipeline.errors import UsageError
-from blocwatch.pipeline.options import EXPORT_FORMATS, EXPORT_TABLES
+from blocwatch.pipeline.options import DEFAULT_PERIOD, EXPORT_FORMATS, EXPORT_TABLES
 from blocwatch.pipeline.safety import neutralise_frame
 from blocwatch.pipeline.store.bodies import require_body, require_results
 from blocwatch.pipeline.store.database import Store
 from blocwatch.pipeline.store.results import export_rows
+from blocwatch.pipeline.store.specs import choose_spec
 
 
-def export_frame(store: Store, table: str, *, body: str | None = None) -> pd.DataFrame:
-    """One export table as a data frame (all bodies unless ``body``)."""
+def export_frame(store: Store, table: str, *, body: str | None = None,
+                 spec: str | None = None) -> pd.DataFrame:
+    """One export table of the period spec ``spec``'s results as a data frame (all bodies
+    unless ``body``); its last column, ``period_spec``, says which spec. Without ``spec``:
+    the default spec if stored, else the only one (:func:`~blocwatch.pipeline.store.specs.
+    choose_spec`)."""
     if table not in EXPORT_TABLES:
         raise UsageError(f"table {table!r}", "is not exportable",
                          f"use one of: {', '.join(EXPORT_TABLES)}")
-    require_results(store, require_body(store, body))  # never an empty table without a word
-    return export_rows(store, table, body)
+    targets = require_body(store, body)
+    require_results(store, targets)  # never an empty table without a word
+    if spec is None:
+        spec = choose_spec(store, targets, wanted=None, default=DEFAULT_PERIOD,
+                           default_why="the default period spec").spec
+    return export_rows(store, table, spec, body)
 
 
 def write_frame(frame: pd.DataFrame, fmt: str, out: str | Path | None) -> Path | None:

@@ -10,7 +10,7 @@ import hashlib
 import json
 
 from blocwatch.pipeline.errors import UsageError
-from blocwatch.pipeline.options import EDGE_BUDGET, BuildOptions
+from blocwatch.pipeline.options import DEFAULT_PERIOD, EDGE_BUDGET, BuildOptions
 from blocwatch.pipeline.report.export import export_frame
 from blocwatch.pipeline.store.bodies import require_body, require_periods, require_results
 from blocwatch.pipeline.store.database import Store
@@ -21,11 +21,13 @@ from blocwatch.pipeline.store.results import (
     read_measures,
 )
 from blocwatch.pipeline.store.runs import tool_version
+from blocwatch.pipeline.store.specs import choose_spec
 
 
-def last_build_options(store: Store) -> tuple[BuildOptions, dict]:
-    """The options of the newest finished build (for the report's provenance) and its run row."""
-    run = last_build_run(store)
+def last_build_options(store: Store, spec: str | None = None) -> tuple[BuildOptions, dict]:
+    """The options of the newest finished build (of period spec ``spec``, if given) for the
+    report's provenance, and its run row."""
+    run = last_build_run(store, spec)
     if run is None:
         raise UsageError("report", "the store holds no finished build",
                          "run 'blocwatch build' first")
@@ -33,8 +35,10 @@ def last_build_options(store: Store) -> tuple[BuildOptions, dict]:
 
 
 def report_frames(store: Store, *, body: str | None = None,
-                  periods: list[str] | None = None) -> dict:
-    """Every frame and the provenance a report needs, as keyword arguments for ReportTables.
+                  periods: list[str] | None = None, spec: str | None = None) -> dict:
+    """Every frame and the provenance a report needs, as keyword arguments for ReportTables:
+    the results of the period spec ``spec`` (other specs' results are not drawn; without
+    it, the default spec if stored, else the only one).
 
     ``measures`` is the methods reference of the metrics the build computed, as it stored it.
     ``edges`` holds the pairs the build stored for each period (the graph rule's edge set,
@@ -44,16 +48,19 @@ def report_frames(store: Store, *, body: str | None = None,
     """
     targets = require_body(store, body)
     require_results(store, targets)
+    if spec is None:
+        spec = choose_spec(store, targets, wanted=None, default=DEFAULT_PERIOD,
+                           default_why="the default period spec").spec
     if periods:
-        require_periods(store, targets, periods)
-    opts, run = last_build_options(store)
-    metrics = export_frame(store, "metrics", body=body)
-    members = export_frame(store, "members", body=body)
-    groups = export_frame(store, "groups", body=body)
-    trends = export_frame(store, "trends", body=body)
-    edges = period_edges(store, body, periods)
+        require_periods(store, targets, periods, spec)
+    opts, run = last_build_options(store, spec)
+    metrics = export_frame(store, "metrics", spec=spec, body=body)
+    members = export_frame(store, "members", spec=spec, body=body)
+    groups = export_frame(store, "groups", spec=spec, body=body)
+    trends = export_frame(store, "trends", spec=spec, body=body)
+    edges = period_edges(store, body, periods, spec=spec)
     measures = read_measures(store)
-    data_fp = hashlib.sha256(json.dumps(period_fingerprints(store), default=str).encode()
+    data_fp = hashlib.sha256(json.dumps(period_fingerprints(store, spec), default=str).encode()
                              ).hexdigest()[:16]
     provenance = {"data_fingerprint": data_fp, "tool_version": tool_version(),
                   "run_id": int(run["run_id"]), "run_time": str(run["finished"]),

@@ -17,9 +17,11 @@ from blocwatch.pipeline.store.database import Store
 def write_report(store_path: str | Path, out: str | Path, *, body: str | None = None,
                  periods: list[str] | None = None, images: bool = False,
                  colours: dict[str, str] | None = None,
-                 wait: float | None = None, single_file: bool = False) -> list[Path]:
+                 wait: float | None = None, single_file: bool = False,
+                 spec: str | None = None) -> list[Path]:
     """Write the pages, embeddable pieces (and with ``images`` PNG/SVG) of the store's results
-    into ``out``; return the paths written.
+    cut by the period spec ``spec`` (default: see :func:`~blocwatch.pipeline.report.frames.
+    report_frames`) into ``out``; return the paths written.
 
     ``periods``: the periods drawn as networks (default: first, last and each change point);
     ``colours``: group name -> CSS colour overrides (the config's ``[colours]`` table);
@@ -33,7 +35,7 @@ def write_report(store_path: str | Path, out: str | Path, *, body: str | None = 
     opened = Store(store_path, read_only=True) if wait is None else \
         reading_store(store_path, wait)
     with opened as store:
-        frames = report_frames(store, body=body, periods=periods)
+        frames = report_frames(store, body=body, periods=periods, spec=spec)
     tables = ReportTables(**frames, colours=dict(colours or {}))
     return write_pages(Path(out), tables, periods=periods, images=images,
                        single_file=single_file)
@@ -41,7 +43,8 @@ def write_report(store_path: str | Path, out: str | Path, *, body: str | None = 
 
 def report_writer(store_path: str | Path, *, body: str | None = None, images: bool = False,
                   colours: dict[str, str] | None = None,
-                  single_file: bool = False) -> Callable[[Path], list[Path]]:
+                  single_file: bool = False, spec: str | None = None
+                  ) -> Callable[[Path], list[Path]]:
     """:func:`write_report` for a folder named later (a rebuild writes into a staging folder)."""
     return lambda folder: write_report(store_path, folder, body=body, images=images,
-                                       colours=colours, single_file=single_file)
+                                       colours=colours, single_file=single_file, spec=spec)

@@ -10,7 +10,6 @@ one transaction.
 from __future__ import annotations
 
 import difflib
-import json
 
 from blocwatch.pipeline.errors import StoreError, UsageError
 from blocwatch.pipeline.store.database import Store
@@ -88,18 +87,19 @@ def require_results(store: Store, bodies: list[str]) -> None:
                          "run 'blocwatch build' (or 'blocwatch rebuild') first")
 
 
-def require_periods(store: Store, bodies: list[str], periods: list[str]) -> None:
-    """Raise :class:`UsageError` for a named period no body in ``bodies`` has results for."""
+def require_periods(store: Store, bodies: list[str], periods: list[str], spec: str) -> None:
+    """Raise :class:`UsageError` for a named period no body in ``bodies`` has results for
+    under the period spec ``spec``."""
     known = [r[0] for r in store.rows(
-        "SELECT DISTINCT period FROM periods WHERE list_contains(?, body) ORDER BY period",
-        [bodies])]
+        "SELECT DISTINCT period FROM periods WHERE list_contains(?, body) AND spec = ? "
+        "ORDER BY period", [bodies, spec])]
     for period in periods:
         if period not in known:
             near = close_matches(period, known, n=1)
             hint = f"did you mean {near[0]!r}? " if near else ""
             span = f"{known[0]} to {known[-1]}" if len(known) > 8 else _listing(known)
-            raise UsageError(f"period {period!r}", "has no stored results",
-                             f"{hint}built periods: {span}")
+            raise UsageError(f"period {period!r}", f"has no stored results of period spec "
+                             f"{spec!r}", f"{hint}built periods: {span}")
 
 
 def body_rows(store: Store, body: str) -> dict[str, int]:
@@ -118,14 +118,3 @@ def remove_body(store: Store, body: str) -> dict[str, int]:
             store.execute(f"DELETE FROM {table} WHERE body = ?", [body])
     return removed
 
-
-def period_specs(store: Store, bodies: list[str]) -> dict[str, str]:
-    """The period spec each body's stored results were cut with: the ``period`` parameter of
-    the run that wrote its newest period (a build drops the periods of any other spec)."""
-    out = {}
-    for body in bodies:
-        params = store.scalar("SELECT r.params FROM periods p JOIN runs r USING (run_id) "
-                              "WHERE p.body = ? ORDER BY p.run_id DESC LIMIT 1", [body])
-        if params:
-            out[body] = str(json.loads(params).get("period", "?"))
-    return out

@@ -1,6 +1,8 @@
 """What a build writes and a report reads: periods, their result rows, pairs and trends.
 
 The build and the report go through these functions; the SQL stays in the store package.
+Every result is keyed by its period spec (``spec``, schema 4): series cut differently
+(``year``, ``rolling:12m:6m``) live side by side, and each read and write names one.
 """
 
 from __future__ import annotations
@@ -30,16 +32,16 @@ EXPORT_QUERIES = {
         SELECT pm.body, pm.period, p.period_start, p.period_end, pm.metric, pm.value, pm.low,
                pm.high, p.n_members, coalesce(pm.n_ballots, p.n_ballots) AS n_ballots, pm.note,
                pm.null_mean, pm.null_z,
-               pm.null_p, p.n_dropped, pm.run_id, pm.subset
-        FROM (SELECT run_id, body, period, metric, value, low, high, null_mean, null_z, null_p,
-                     note, 'all' AS subset, NULL AS n_ballots FROM period_metrics
+               pm.null_p, p.n_dropped, pm.run_id, pm.subset, pm.spec AS period_spec
+        FROM (SELECT run_id, body, spec, period, metric, value, low, high, null_mean, null_z,
+                     null_p, note, 'all' AS subset, NULL AS n_ballots FROM period_metrics
               UNION ALL
-              SELECT run_id, body, period, metric, value, low, high, NULL, NULL, NULL, note,
-                     subset, n_ballots FROM subset_metrics) pm
-        JOIN periods p USING (body, period)
-        WHERE (? IS NULL OR pm.body = ?)
+              SELECT run_id, body, spec, period, metric, value, low, high, NULL, NULL, NULL,
+                     note, subset, n_ballots FROM subset_metrics) pm
+        JOIN periods p USING (body, spec, period)
+        WHERE (? IS NULL OR pm.body = ?) AND pm.spec = ?
         ORDER BY pm.body, p.period_start, pm.subset <> 'all', pm.subset, pm.metric""",
-    # Trajectory columns (the last four): the member's previous period with a row for the
+    # Trajectory columns (after run_id): the member's previous period with a row for the
     # same metric, the change of value since then, the group then, and — when the group
     # differs — the date the member's spell in the present group began (the switch date).
     "members": f"""
@@ -49,67 +51,94 @@ EXPORT_QUERIES = {
                    mm.note, mm.run_id,
                    lag(mm.period) OVER w AS previous_period,
                    mm.value - lag(mm.value) OVER w AS change,
-                   lag(mm.group_name) OVER w AS group_before
-            FROM member_metrics mm JOIN periods p USING (body, period)
+                   lag(mm.group_name) OVER w AS group_before, mm.spec
+            FROM member_metrics mm JOIN periods p USING (body, spec, period)
             LEFT JOIN members m ON m.body = mm.body AND m.member_id = mm.member_id
-            WHERE (? IS NULL OR mm.body = ?)
+            WHERE (? IS NULL OR mm.body = ?) AND mm.spec = ?
             WINDOW w AS (PARTITION BY mm.body, mm.member_id, mm.metric
                          ORDER BY p.period_start, p.period_end, mm.period))
-        SELECT t.*,
+        SELECT t.* EXCLUDE (spec),
                CASE WHEN t.group_before <> t.group_name THEN
                    (SELECT max(s.valid_from) FROM memberships s
                     WHERE s.body = t.body AND s.member_id = t.member_id
                       AND s.group_name = t.group_name AND s.valid_from <= t.period_end
                       AND s.valid_from > DATE '{OPEN_FROM}')  -- an open start is no date
-               END AS switched_on
+               END AS switched_on, t.spec AS period_spec
         FROM t ORDER BY t.body, t.period_start, t.member_id, t.metric""",
     "groups": """
         SELECT g.body, g.period, p.period_start, p.period_end, g.group_a, g.group_b,
-               g.agreement, g.n_pairs, g.alpha, g.run_id, g.low, g.high
-        FROM group_agreement g JOIN periods p USING (body, period)
-        WHERE (? IS NULL OR g.body = ?)
+               g.agreement, g.n_pairs, g.alpha, g.run_id, g.low, g.high,
+               g.spec AS period_spec
+        FROM group_agreement g JOIN periods p USING (body, spec, period)
+        WHERE (? IS NULL OR g.body = ?) AND g.spec = ?
         ORDER BY g.body, p.period_start, g.group_a, g.group_b""",
     # subset as in metrics, plus 'pair:<A>|<B>' (metric pair_agreement) for pairs of groups.
     "trends": """
         SELECT body, metric, n_periods, mk_s, mk_z, mk_p, tau, slope, slope_low, slope_high,
-               change_points, note, run_id, subset
+               change_points, note, run_id, subset, spec AS period_spec
         FROM (SELECT *, 'all' AS subset FROM trends
               UNION ALL BY NAME SELECT * FROM subset_trends)
-        WHERE (? IS NULL OR body = ?) ORDER BY body, subset <> 'all', subset, metric""",
+        WHERE (? IS NULL OR body = ?) AND spec = ?
+        ORDER BY body, subset <> 'all', subset, metric""",
 }
 
 
 # -- reads ---------------------------------------------------------------------------------
-def stored_fingerprints(store: Store, body: str) -> dict[str, str]:
-    """period -> fingerprint of the stored results of ``body``."""
-    return dict(store.rows("SELECT period, fingerprint FROM periods WHERE body = ?", [body]))
+def stored_fingerprints(store: Store, body: str, spec: str) -> dict[str, str]:
+    """period -> fingerprint of the stored results of ``body`` under ``spec``."""
+    return dict(store.rows("SELECT period, fingerprint FROM periods WHERE body = ? AND "
+                           "spec = ?", [body, spec]))
 
 
-def result_runs(store: Store, body: str) -> tuple[int | None, int | None]:
-    """(newest run among ``body``'s periods, oldest run among its trends)."""
-    return tuple(store.rows("""SELECT (SELECT max(run_id) FROM periods WHERE body = ?),
-                                      (SELECT min(run_id) FROM trends WHERE body = ?)""",
-                            [body, body])[0])
+def result_runs(store: Store, body: str, spec: str) -> tuple[int | None, int | None]:
+    """(newest run among ``body``'s periods, oldest run among its trends) under ``spec``."""
+    return tuple(store.rows("""SELECT (SELECT max(run_id) FROM periods WHERE body = ? AND
+                                       spec = ?),
+                                      (SELECT min(run_id) FROM trends WHERE body = ? AND
+                                       spec = ?)""", [body, spec, body, spec])[0])
 
 
-def export_rows(store: Store, table: str, body: str | None = None) -> pd.DataFrame:
-    """One export table (a key of :data:`EXPORT_QUERIES`), all bodies unless ``body``."""
-    return store.df(EXPORT_QUERIES[table], [body, body])
+def newest_results_run(store: Store, spec: str) -> int | None:
+    """The newest run whose results of ``spec`` the store holds (periods and trends)."""
+    return store.scalar("SELECT max(run_id) FROM (SELECT run_id FROM periods WHERE spec = ? "
+                        "UNION ALL SELECT run_id FROM trends WHERE spec = ?)", [spec, spec])
 
 
-def metric_series(store: Store, body: str) -> pd.DataFrame:
-    """Each metric's value per period of ``body``, in period order (what trends are fitted to)."""
+def stored_specs(store: Store, bodies: list[str] | None = None) -> dict[str, int]:
+    """Each period spec with stored results (of ``bodies``, or of all) -> its period count."""
+    return dict(store.rows("SELECT spec, count(*) FROM periods WHERE ? IS NULL OR "
+                           "list_contains(?, body) GROUP BY spec ORDER BY min(run_id)",
+                           [bodies, bodies]))
+
+
+def stored_periods(store: Store, body: str, spec: str) -> list[str]:
+    """The names of ``body``'s stored periods under ``spec``, in time order."""
+    return [r[0] for r in store.rows("SELECT period FROM periods WHERE body = ? AND spec = ? "
+                                     "ORDER BY period_start", [body, spec])]
+
+
+def export_rows(store: Store, table: str, spec: str, body: str | None = None) -> pd.DataFrame:
+    """One export table (a key of :data:`EXPORT_QUERIES`) of the ``spec`` results, all bodies
+    unless ``body``."""
+    return store.df(EXPORT_QUERIES[table], [body, body, spec])
+
+
+def metric_series(store: Store, body: str, spec: str) -> pd.DataFrame:
+    """Each metric's value per period of ``body`` under ``spec``, in period order (what
+    trends are fitted to)."""
     return store.df(
         """SELECT pm.metric, p.period, p.period_start, pm.value FROM period_metrics pm
-           JOIN periods p USING (body, period) WHERE pm.body = ? ORDER BY p.period_start""",
-        [body])
+           JOIN periods p USING (body, spec, period) WHERE pm.body = ? AND pm.spec = ?
+           ORDER BY p.period_start""", [body, spec])
 
 
-def last_build_run(store: Store) -> dict | None:
-    """The runs row of the newest finished build, rebuild or demo (its params parsed)."""
+def last_build_run(store: Store, spec: str | None = None) -> dict | None:
+    """The runs row of the newest finished build, rebuild or demo (its params parsed) — with
+    ``spec``, of the newest one that cut its periods that way."""
     marks = ", ".join("?" for _ in BUILD_COMMANDS)
-    rows = store.df(f"SELECT * FROM runs WHERE status = 'ok' AND command IN ({marks}) "
-                    "ORDER BY run_id DESC LIMIT 1", list(BUILD_COMMANDS))
+    rows = store.df(f"SELECT * FROM runs WHERE status = 'ok' AND command IN ({marks}) AND "
+                    "(? IS NULL OR json_extract_string(params, '$.period') = ?) "
+                    "ORDER BY run_id DESC LIMIT 1", [*BUILD_COMMANDS, spec, spec])
     if rows.empty:
         return None
     run = rows.iloc[0].to_dict()
@@ -117,9 +146,10 @@ def last_build_run(store: Store) -> dict | None:
     return run
 
 
-def period_fingerprints(store: Store) -> list[tuple]:
-    """(body, period, fingerprint) of every stored period, sorted."""
-    return store.rows("SELECT body, period, fingerprint FROM periods ORDER BY ALL")
+def period_fingerprints(store: Store, spec: str) -> list[tuple]:
+    """(body, period, fingerprint) of every stored period of ``spec``, sorted."""
+    return store.rows("SELECT body, period, fingerprint FROM periods WHERE spec = ? "
+                      "ORDER BY ALL", [spec])
 
 
 def read_measures(store: Store) -> pd.DataFrame:
@@ -127,35 +157,35 @@ def read_measures(store: Store) -> pd.DataFrame:
     return store.df(f"SELECT {', '.join(MEASURE_FRAME)} FROM measures ORDER BY position")
 
 
-def period_edges(store: Store, body: str | None = None,
-                 periods: Iterable[str] | None = None) -> pd.DataFrame:
+def period_edges(store: Store, body: str | None = None, periods: Iterable[str] | None = None,
+                 spec: str | None = None) -> pd.DataFrame:
     """The stored pairs of each period (strongest first) with the period's count of pairs that
-    had a value (``n_pairs``). A period built before pairs were stored (schema 3) has none
-    until it is recomputed."""
+    had a value (``n_pairs``), of period spec ``spec`` (None: any). A period built before
+    pairs were stored (schema 3) has none until it is recomputed."""
     frame = store.df(
         """SELECT e.body, e.period, e.member_a, e.member_b, e.agreement, p.n_pairs
-           FROM period_edges e JOIN periods p USING (body, period)
-           WHERE (? IS NULL OR e.body = ?)
+           FROM period_edges e JOIN periods p USING (body, spec, period)
+           WHERE (? IS NULL OR e.body = ?) AND (? IS NULL OR e.spec = ?)
            ORDER BY e.body, p.period_start, e.agreement DESC, e.member_a, e.member_b""",
-        [body, body])
+        [body, body, spec, spec])
     if periods is not None:
         frame = frame[frame["period"].isin(list(periods))].reset_index(drop=True)
     return frame
 
 
 # -- writes --------------------------------------------------------------------------------
-def write_period(store: Store, run_id: int, res) -> None:
-    """Swap one period's results in (a ``PeriodResult``): old rows out, new rows in, in one
-    transaction."""
-    key = [res.body, res.period_name]
+def write_period(store: Store, run_id: int, res, spec: str) -> None:
+    """Swap one period's results in (a ``PeriodResult`` cut by ``spec``): old rows out, new
+    rows in, in one transaction. Other specs' results are not touched."""
+    key = [res.body, spec, res.period_name]
     with store.transaction():
         for table in RESULT_TABLES:
-            store.execute(f"DELETE FROM {table} WHERE body = ? AND period = ?", key)
-        store.execute("DELETE FROM periods WHERE body = ? AND period = ?", key)
-        store.execute("INSERT INTO periods (body, period, period_start, period_end, fingerprint, "
-                      "run_id, n_members, n_ballots, n_dropped, n_pairs) "
-                      "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
-                      [res.body, res.period_name, res.period_start, res.period_end,
+            store.execute(f"DELETE FROM {table} WHERE body = ? AND spec = ? AND period = ?", key)
+        store.execute("DELETE FROM periods WHERE body = ? AND spec = ? AND period = ?", key)
+        store.execute("INSERT INTO periods (body, spec, period, period_start, period_end, "
+                      "fingerprint, run_id, n_members, n_ballots, n_dropped, n_pairs) "
+                      "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+                      [res.body, spec, res.period_name, res.period_start, res.period_end,
                        res.fingerprint, run_id, res.n_members, res.n_ballots, res.n_dropped,
                        res.n_pairs])
         for table, frame in (("period_metrics", res.metrics), ("member_metrics", res.members),
@@ -163,32 +193,33 @@ def write_period(store: Store, run_id: int, res) -> None:
                              ("period_edges", res.edges)):
             if frame.empty:
                 continue
-            frame = frame.assign(run_id=run_id, body=res.body, period=res.period_name)
+            frame = frame.assign(run_id=run_id, body=res.body, period=res.period_name,
+                                 spec=spec)
             store.insert_frame(table, frame)
 
 
-def drop_periods_except(store: Store, body: str, keep: Iterable[str]) -> None:
-    """Remove results of periods of ``body`` not in ``keep`` (the spec no longer makes them)."""
+def drop_periods_except(store: Store, body: str, spec: str, keep: Iterable[str]) -> None:
+    """Remove results of ``body``'s ``spec`` periods not in ``keep`` (the spec no longer
+    makes them, e.g. a partial window that has grown whole); other specs are kept."""
     keep = list(keep)
     store.register("_bw_keep", pd.DataFrame({"period": pd.Series(keep, dtype=object)}))
     try:
         with store.transaction():
             for table in (*RESULT_TABLES, "periods"):
-                store.execute(f"DELETE FROM {table} WHERE body = ? AND period NOT IN "
-                              "(SELECT period FROM _bw_keep)", [body])
+                store.execute(f"DELETE FROM {table} WHERE body = ? AND spec = ? AND period NOT "
+                              "IN (SELECT period FROM _bw_keep)", [body, spec])
     finally:
         store.unregister("_bw_keep")
 
 
-def replace_trends(store: Store, body: str, rows: pd.DataFrame,
+def replace_trends(store: Store, body: str, spec: str, rows: pd.DataFrame,
                    subset_rows: pd.DataFrame) -> None:
-    """Swap ``body``'s trend rows for ``rows`` and its per-subset trend rows for
+    """Swap ``body``'s ``spec`` trend rows for ``rows`` and its per-subset trend rows for
     ``subset_rows``, in one transaction."""
     with store.transaction():
-        store.execute("DELETE FROM trends WHERE body = ?", [body])
-        store.insert_frame("trends", rows)
-        store.execute("DELETE FROM subset_trends WHERE body = ?", [body])
-        store.insert_frame("subset_trends", subset_rows)
+        for table, frame in (("trends", rows), ("subset_trends", subset_rows)):
+            store.execute(f"DELETE FROM {table} WHERE body = ? AND spec = ?", [body, spec])
+            store.insert_frame(table, frame.assign(spec=spec) if not frame.empty else frame)
 
 
 def write_measures(store: Store, run_id: int, measures: pd.DataFrame) -> None:

@@ -6,15 +6,18 @@ refuses a newer one. Table names that reach SQL are checked against :data:`TABLE
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 import duckdb
 
 from blocwatch.pipeline.errors import StoreError
+from blocwatch.pipeline.store.spec_key import key_results_by_spec
 
 # The fingerprint of a period built before its pairs were stored (migration 2 -> 3): equal to
 # no fingerprint a build computes, so the period reads as changed until it is recomputed.
 PAIRS_NOT_STORED = "built before pairs were stored"
 
-SCHEMA_VERSION = 3
+SCHEMA_VERSION = 4
 
 # Sentinels for open-ended membership dates (primary keys cannot hold NULL).
 OPEN_FROM = "1800-01-01"
@@ -154,8 +157,9 @@ TABLES = (
     "subset_metrics", "subset_trends", "period_edges", "measures",
 )
 
-# Migrations from version N to N+1, applied in order by :func:`migrate`.
-_MIGRATIONS: dict[int, str] = {
+# Migrations from version N to N+1, applied in order by :func:`migrate`: SQL, or a function
+# of the connection where the change depends on what the tables hold.
+_MIGRATIONS: dict[int, str | Callable] = {
     # 1 -> 2: one optional topic per ballot; the per-subset series (one topic's ballots, the
     # agenda-standardised series) and their trends, plus trends of each pair of groups and
     # the bootstrap interval of each pair's mean agreement.
@@ -225,6 +229,9 @@ CREATE TABLE IF NOT EXISTS measures (
 );
 UPDATE periods SET fingerprint = '{PAIRS_NOT_STORED}';
 """,
+    # 3 -> 4: the period spec is part of every result's key (store/spec_key.py): results of
+    # several specs live side by side, and old rows keep the spec their run was built with.
+    3: key_results_by_spec,
 }
 
 
@@ -259,7 +266,11 @@ def migrate(con: duckdb.DuckDBPyConnection) -> int:
             con.execute(_SCHEMA_V1)
             version = 1
         while version < SCHEMA_VERSION:
-            con.execute(_MIGRATIONS[version])
+            step = _MIGRATIONS[version]
+            if callable(step):
+                step(con)
+            else:
+                con.execute(step)
             version += 1
         con.execute("INSERT OR REPLACE INTO meta VALUES ('schema_version', ?)", [str(version)])
         con.execute("COMMIT")
