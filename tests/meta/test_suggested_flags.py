@@ -29,6 +29,7 @@ SCOPES = [
     ("ops/rebuild.py", ("rebuild",)),
     ("ops/scan_load.py", ("rebuild",)),
     ("ops/schedule.py", ("schedule",)),
+    ("store/specs.py", ("export", "report")),  # which stored spec a reader shows
     ("store/", ("export", "report", "status", "build", "ingest", "rebuild")),
     ("cli/usage.py", ()),  # builds its hints from the command that failed
     ("", ()),  # elsewhere: the flag must exist on some command (checked below)

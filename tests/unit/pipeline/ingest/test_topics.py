@@ -5,6 +5,7 @@ The expected values are the ones written into the small files below (hand-built 
 
 from datetime import date
 
+import duckdb
 import pytest
 
 from blocwatch.pipeline.build.fingerprint import fingerprint
@@ -13,6 +14,7 @@ from blocwatch.pipeline.build.periods import Period
 from blocwatch.pipeline.errors import BadInputError
 from blocwatch.pipeline.ingest.load import ingest_files
 from blocwatch.pipeline.options import BuildOptions
+from blocwatch.pipeline.store import schema
 from blocwatch.pipeline.store.database import Store
 from blocwatch.pipeline.store.schema import SCHEMA_VERSION
 
@@ -110,13 +112,10 @@ def test_changed_topic_needs_replace(tmp_path):
 def test_version_one_store_gains_the_topic_column(tmp_path):
     """A store written before topics existed (schema 1) is migrated on open."""
     path = tmp_path / "old.duckdb"
-    with Store(path) as store:  # make a version-1 file: drop what version 2 added
-        store.execute("ALTER TABLE ballots DROP COLUMN topic")
-        store.execute("ALTER TABLE group_agreement DROP COLUMN low")
-        store.execute("ALTER TABLE group_agreement DROP COLUMN high")
-        store.execute("DROP TABLE subset_metrics")
-        store.execute("DROP TABLE subset_trends")
-        store.execute("UPDATE meta SET value = '1' WHERE key = 'schema_version'")
+    con = duckdb.connect(str(path))  # a version-1 file, as version 1 created it
+    con.execute(schema._SCHEMA_V1)
+    con.execute("INSERT INTO meta VALUES ('schema_version', '1')")
+    con.close()
     with Store(path) as store:
         assert store.scalar("SELECT value FROM meta WHERE key = 'schema_version'") == \
             str(SCHEMA_VERSION)
