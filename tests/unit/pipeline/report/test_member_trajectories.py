@@ -16,7 +16,8 @@ from blocwatch.pipeline.store.database import Store
 
 OLD_COLUMNS = ["body", "period", "period_start", "period_end", "member_id", "name",
                "group_name", "metric", "value", "note", "run_id"]
-NEW_COLUMNS = ["previous_period", "change", "group_before", "switched_on"]
+NEW_COLUMNS = ["previous_period", "change", "group_before", "switched_on",
+               "period_spec"]  # the last: which period spec the rows were cut by
 SWITCH_DAY = "2023-02-01"  # s00 votes with South from this ballot on (invented)
 
 
