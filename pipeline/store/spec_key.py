@@ -28,6 +28,8 @@ def key_results_by_spec(con) -> None:
     transaction); existing rows get the spec of the run that wrote them."""
     for table, key in SPEC_KEYS.items():
         columns = con.execute(f"PRAGMA table_info('{table}')").fetchall()
+        if any(name == "spec" for _, name, *_ in columns):
+            continue  # keyed already (like the IF NOT EXISTS of the SQL migrations)
         defs = [f"{name} {kind}{' NOT NULL' if notnull else ''}"
                 f"{f' DEFAULT {default}' if default is not None else ''}"
                 for _, name, kind, notnull, default, _ in columns]
