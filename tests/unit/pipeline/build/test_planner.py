@@ -1,8 +1,8 @@
 """The period planner and the build it drives, on the toy roll call in a real DuckDB file.
 
 Expected states follow from the planner's definitions (new: no stored result; changed: the
-fingerprint differs; removed: the spec no longer produces the period; trends older than the
-periods), checked against what ``build`` then writes.
+fingerprint differs; removed: the spec no longer produces a period it stored; trends older
+than the periods), checked against what ``build`` then writes. Each spec is judged on its own.
 """
 
 import pytest
@@ -60,17 +60,23 @@ def test_other_options_make_every_period_changed(store):
 
 
 def test_a_period_the_spec_no_longer_produces_is_removed_and_dropped(store, tmp_path):
-    build(store, options=toy.fast_options())
+    build(store, options=toy.fast_options())  # yearly: 2019, 2020
     terms = tmp_path / "terms.csv"
-    terms.write_text("name,start,end\nT20,2020-01-01,2020-12-31\n", encoding="utf-8")
+    terms.write_text("name,start,end\nT19,2019-01-01,2019-12-31\nT20,2020-01-01,2020-12-31\n",
+                     encoding="utf-8")
     opts = toy.fast_options().__class__(period=f"terms:{terms}", bootstrap=0, permutations=0,
                                         agreement=toy.fast_options().agreement)
-    stale = stale_periods(store, opts)
-    assert Stale("Toy", "2019", "removed") in stale and Stale("Toy", "2020", "removed") in stale
-    assert Stale("Toy", "T20", "new") in stale
+    # another spec: its periods are new, the yearly ones are neither stale nor removed
+    assert stale_periods(store, opts) == [Stale("Toy", "T19", "new"), Stale("Toy", "T20", "new")]
     build(store, options=opts)
-    assert _period_names(store) == ["T20"]
-    left = store.rows("SELECT DISTINCT period FROM period_metrics WHERE body = 'Toy'")
+    # the same spec without T19: only T19 is removed and dropped, the yearly results stay
+    terms.write_text("name,start,end\nT20,2020-01-01,2020-12-31\n", encoding="utf-8")
+    assert Stale("Toy", "T19", "removed") in stale_periods(store, opts)
+    report = build(store, options=opts)
+    assert report.removed == [("Toy", "T19")] and report.other_specs == {"year": 2}
+    assert _period_names(store) == ["2019", "2020", "T20"]
+    left = store.rows("SELECT DISTINCT period FROM period_metrics WHERE body = 'Toy' AND "
+                      "spec = ? ORDER BY ALL", [opts.period])
     assert left == [("T20",)]
 
 
