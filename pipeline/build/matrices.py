@@ -17,6 +17,7 @@ import pandas as pd
 from blocwatch.metrics.registry import ABSTAIN, MISSING, NO, YES
 from blocwatch.pipeline.build.scored import attach_scales
 from blocwatch.pipeline.options import Period
+from blocwatch.pipeline.store.ballots import period_votes
 from blocwatch.pipeline.store.database import Store
 
 CHOICE_CODES = {"yes": YES, "no": NO, "abstain": ABSTAIN, "absent": MISSING}
@@ -67,34 +68,9 @@ class VoteMatrix:
                           self.left_out + tuple(left_out), self.placements)
 
 
-def ballot_date_range(store: Store, body: str) -> tuple | None:
-    """(first, last) ballot date of a body, or None if it has none."""
-    row = store.rows("SELECT min(held_on), max(held_on) FROM ballots WHERE body = ?", [body])
-    return None if not row or row[0][0] is None else (row[0][0], row[0][1])
-
-
 def load_votes(store: Store, body: str, period: Period) -> VoteMatrix:
     """The period's vote matrix, every member with a group and at least one row in it."""
-    params = [body, period.start, period.end]
-    votes = store.df(
-        """SELECT v.member_id, v.ballot_id, v.choice, coalesce(b.item, '') AS item,
-                  coalesce(b.topic, '') AS topic, b.held_on
-           FROM votes v JOIN ballots b ON b.body = v.body AND b.ballot_id = v.ballot_id
-           WHERE v.body = ? AND b.held_on BETWEEN ? AND ?
-           ORDER BY b.held_on, v.ballot_id""", params)
-    groups = store.df(
-        """WITH cast_votes AS (
-               SELECT v.member_id, b.held_on FROM votes v
-               JOIN ballots b ON b.body = v.body AND b.ballot_id = v.ballot_id
-               WHERE v.body = ? AND b.held_on BETWEEN ? AND ? AND v.choice <> 'absent'),
-           counted AS (
-               SELECT c.member_id, m.group_name, count(*) AS n FROM cast_votes c
-               JOIN memberships m ON m.body = ? AND m.member_id = c.member_id
-                    AND c.held_on BETWEEN m.valid_from AND m.valid_to
-               GROUP BY ALL)
-           SELECT * FROM counted""", params + [body])
-    names = store.df("SELECT member_id, coalesce(name, member_id) AS name FROM members "
-                     "WHERE body = ?", [body])
+    votes, groups, names = period_votes(store, body, period.start, period.end)
     return attach_scales(store, _assemble(body, period, votes, groups, names))
 
 

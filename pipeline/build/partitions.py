@@ -75,11 +75,12 @@ def write_vote_partitions(store, root: str | Path, *, period_spec: str = "year",
     """Write each body × period of ``store`` as a vote partition under ``root`` (plus
     ``period.json`` with the period's bounds and the members left out for want of a group)."""
     from blocwatch.pipeline.build.planner import plan_body
+    from blocwatch.pipeline.store.ballots import ballot_dates
     from blocwatch.pipeline.store.bodies import require_body
 
     written = []
     for b in require_body(store, body):
-        dates = dict(store.rows("SELECT ballot_id, held_on FROM ballots WHERE body = ?", [b]))
+        dates = ballot_dates(store, b)
         for vm in plan_body(store, b, period_spec).matrices(store):
             period = vm.period
             folder = partition_dir(root, b, period.name)

@@ -25,10 +25,11 @@ from collections.abc import Iterator
 from dataclasses import dataclass, field
 
 from blocwatch.pipeline.build.fingerprint import fingerprint
-from blocwatch.pipeline.build.matrices import VoteMatrix, ballot_date_range, load_votes
+from blocwatch.pipeline.build.matrices import VoteMatrix, load_votes
 from blocwatch.pipeline.build.periods import make_periods
 from blocwatch.pipeline.errors import UsageError
 from blocwatch.pipeline.options import NO_TOPIC, BuildOptions, Period
+from blocwatch.pipeline.store.ballots import ballot_date_range, topic_counts
 from blocwatch.pipeline.store.bodies import stored_bodies
 from blocwatch.pipeline.store.database import Store
 from blocwatch.pipeline.store.results import result_runs, stored_fingerprints
@@ -87,8 +88,7 @@ def body_options(store: Store, body: str, opts: BuildOptions) -> BuildOptions:
     (``topic_reference`` = that period's name); ballots without a topic count as ``(none)``.
     The mix decides the standardised series, so it is part of every period's fingerprint.
     """
-    sql = "SELECT coalesce(topic, ''), count(*) FROM ballots WHERE body = ?"
-    rows = store.rows(sql + " GROUP BY 1", [body])
+    rows = topic_counts(store, body)
     if not any(t for t, _ in rows):
         return dataclasses.replace(opts, topic_mix=())
     if opts.topic_reference != "pooled":
@@ -98,8 +98,7 @@ def body_options(store: Store, body: str, opts: BuildOptions) -> BuildOptions:
             raise UsageError(f"topic reference {opts.topic_reference!r}",
                              f"is not a {opts.period} period of {body}",
                              f"use pooled or one of: {', '.join(list(periods)[:10])}")
-        rows = store.rows(sql + " AND held_on BETWEEN ? AND ? GROUP BY 1",
-                          [body, chosen.start, chosen.end])
+        rows = topic_counts(store, body, chosen.start, chosen.end)
     return dataclasses.replace(opts, topic_mix=topic_mix(rows))
 
 

@@ -27,6 +27,7 @@ import numpy as np
 import pandas as pd
 
 from blocwatch.metrics.registry import ABSTAIN, MISSING, NO, YES
+from blocwatch.pipeline.store.ballots import period_scale_ballots, period_scores
 from blocwatch.pipeline.store.database import Store
 
 
@@ -66,22 +67,10 @@ class ScaleMatrix:
 
 def load_scales(store: Store, body: str, period, member_ids, ballot_ids) -> ScaleMatrix | None:
     """The period's scales and scored answers, or None when every ballot is yes/no."""
-    params = [body, period.start, period.end]
-    ballots = store.df(
-        """SELECT ballot_id, scale, scale_min, scale_max, options FROM ballots
-           WHERE body = ? AND held_on BETWEEN ? AND ?""", params)
+    ballots = period_scale_ballots(store, body, period.start, period.end)
     if ballots.empty or (ballots["scale"] == "binary").all():
         return None
-    spread = store.df(
-        """SELECT v.ballot_id, min(v.score) AS lo, max(v.score) AS hi FROM votes v
-           JOIN ballots b ON b.body = v.body AND b.ballot_id = v.ballot_id
-           WHERE v.body = ? AND b.held_on BETWEEN ? AND ? AND b.scale = 'continuous'
-             AND v.score IS NOT NULL GROUP BY v.ballot_id""", params)
-    answers = store.df(
-        """SELECT v.member_id, v.ballot_id, v.score FROM votes v
-           JOIN ballots b ON b.body = v.body AND b.ballot_id = v.ballot_id
-           WHERE v.body = ? AND b.held_on BETWEEN ? AND ? AND b.scale <> 'binary'
-             AND v.score IS NOT NULL AND v.choice NOT IN ('abstain', 'absent')""", params)
+    spread, answers = period_scores(store, body, period.start, period.end)
     info = ballots.set_index("ballot_id").reindex(list(ballot_ids))
     lo = info["scale_min"].astype(float).to_numpy()
     hi = info["scale_max"].astype(float).to_numpy()

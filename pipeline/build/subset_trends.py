@@ -16,6 +16,7 @@ import pandas as pd
 
 from blocwatch.metrics.change.trends import trend_summary
 from blocwatch.pipeline.store.database import Store
+from blocwatch.pipeline.store.results import group_pair_series, subset_series
 
 PAIR_METRIC = "pair_agreement"
 TREND_FIELDS = ("n_periods", "mk_s", "mk_z", "mk_p", "tau", "slope", "slope_low", "slope_high")
@@ -35,11 +36,7 @@ def trend_row(series: pd.DataFrame) -> dict:
 
 def pair_series(store: Store, body: str, spec: str) -> pd.DataFrame:
     """``subset, period, value`` of each pair of groups, in period order (≥ 3 groups only)."""
-    frame = store.df(
-        """SELECT g.group_a, g.group_b, g.period, g.agreement AS value FROM group_agreement g
-           JOIN periods p USING (body, spec, period)
-           WHERE g.body = ? AND g.spec = ? AND g.group_a < g.group_b
-           ORDER BY p.period_start""", [body, spec])
+    frame = group_pair_series(store, body, spec)
     groups = set(frame["group_a"]) | set(frame["group_b"])
     if len(groups) < 3:
         return pd.DataFrame(columns=["subset", "period", "value"])
@@ -49,10 +46,7 @@ def pair_series(store: Store, body: str, spec: str) -> pd.DataFrame:
 
 def subset_trend_rows(store: Store, run_id: int, body: str, spec: str) -> pd.DataFrame:
     """Every subset trends row of a body's ``spec`` series (empty frame without subsets)."""
-    subsets = store.df(
-        """SELECT s.subset, s.metric, s.period, s.value FROM subset_metrics s
-           JOIN periods p USING (body, spec, period) WHERE s.body = ? AND s.spec = ?
-           ORDER BY p.period_start""", [body, spec])
+    subsets = subset_series(store, body, spec)
     pairs = pair_series(store, body, spec).assign(metric=PAIR_METRIC)
     rows = []
     for (subset, metric), series in pd.concat([subsets, pairs]).groupby(["subset", "metric"],

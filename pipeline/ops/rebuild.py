@@ -36,6 +36,7 @@ from blocwatch.pipeline.ops.lock import store_lock
 from blocwatch.pipeline.ops.scan_load import load_scan
 from blocwatch.pipeline.ops.sources import SourceFile, config_bodies, scan_sources
 from blocwatch.pipeline.options import BuildOptions
+from blocwatch.pipeline.store.ballots import has_ballots
 from blocwatch.pipeline.store.bodies import close_matches
 from blocwatch.pipeline.store.database import Store
 from blocwatch.pipeline.store.results import newest_results_run
@@ -135,7 +136,7 @@ def rebuild(store_path: str | Path, *, options: BuildOptions | None = None,
             empty = [n for n in config_bodies(cfg, body)
                      if not any(s.body == n and s.kind == "votes" for s in report.sources)]
             report.notes = [f"bodies.{n}.sources matches no file yet" for n in empty]
-            if not store.scalar("SELECT count(*) FROM ballots"):
+            if not has_ballots(store):
                 where = (f"the sources of {', '.join(empty)} match no file" if empty else
                          "no bodies are configured")
                 raise UsageError("rebuild", f"the store is empty and {where}",

@@ -22,9 +22,10 @@ from blocwatch.pipeline.ops.readers import reading_store, wait_for_store
 from blocwatch.pipeline.ops.settings import settings_changes
 from blocwatch.pipeline.ops.sources import scan_sources
 from blocwatch.pipeline.options import BuildOptions
-from blocwatch.pipeline.store.bodies import close_matches
+from blocwatch.pipeline.store.bodies import body_counts, close_matches, last_load, stored_bodies
 from blocwatch.pipeline.store.database import Store
 from blocwatch.pipeline.store.results import BUILD_COMMANDS, stored_periods, stored_specs
+from blocwatch.pipeline.store.runs import runs_frame
 
 
 @dataclass
@@ -138,7 +139,7 @@ def status(store_path: str | Path, *, options: BuildOptions | None = None,
         return report
     with reading_store(store_path, wait or 0.0) as store:
         report.bodies = _bodies(store, cfg, opts, body)
-        rows = store.df("SELECT * FROM runs ORDER BY run_id")
+        rows = runs_frame(store)
     report.settings = _settings(rows, opts, sources, body)
     if not rows.empty:
         runs = rows.to_dict("records")
@@ -181,7 +182,7 @@ def _bodies(store: Store | None, cfg: Config, opts: BuildOptions,
             body: str | None) -> list[BodyStatus]:
     names = list(cfg.bodies)
     if store is not None:
-        names += [r[0] for r in store.rows("SELECT body FROM bodies ORDER BY body")]
+        names += stored_bodies(store)
     names = list(dict.fromkeys(names))
     if body is not None and body not in names:
         near = close_matches(body, names)
@@ -196,18 +197,13 @@ def _bodies(store: Store | None, cfg: Config, opts: BuildOptions,
     if store is None:
         return list(out.values())
     for name, bs in out.items():
-        bs.members = int(store.scalar("SELECT count(*) FROM members WHERE body = ?", [name]))
-        n, first, last = store.rows("SELECT count(*), min(held_on), max(held_on) FROM ballots "
-                                    "WHERE body = ?", [name])[0]
-        bs.ballots, bs.first_ballot, bs.last_ballot = int(n), first and str(first), \
+        bs.members, n, first, last = body_counts(store, name)
+        bs.ballots, bs.first_ballot, bs.last_ballot = n, first and str(first), \
             last and str(last)
         bs.periods = stored_periods(store, name, opts.period)
         bs.other_specs = {s: n for s, n in stored_specs(store, [name]).items()
                           if s != opts.period}
-        # One load writes all its files with one time stamp: report that load whole.
-        ingest = store.df("SELECT file, rows, loaded_at FROM ingests WHERE body = ? AND "
-                          "loaded_at = (SELECT max(loaded_at) FROM ingests WHERE body = ?) "
-                          "ORDER BY file", [name, name])
+        ingest = last_load(store, name)
         if not ingest.empty:
             bs.last_ingest = {"files": ingest["file"].tolist(),
                               "rows": int(ingest["rows"].sum()),

@@ -109,6 +109,22 @@ def body_rows(store: Store, body: str) -> dict[str, int]:
             for t in BODY_TABLES}
 
 
+def body_counts(store: Store, body: str) -> tuple[int, int, object, object]:
+    """(members, ballots, first ballot date, last ballot date) of a body as stored."""
+    members = int(store.scalar("SELECT count(*) FROM members WHERE body = ?", [body]))
+    n, first, last = store.rows("SELECT count(*), min(held_on), max(held_on) FROM ballots "
+                                "WHERE body = ?", [body])[0]
+    return members, int(n), first, last
+
+
+def last_load(store: Store, body: str):
+    """``file, rows, loaded_at`` of the body's newest load: one load writes all its files with
+    one time stamp, so this is that load whole."""
+    return store.df("SELECT file, rows, loaded_at FROM ingests WHERE body = ? AND "
+                    "loaded_at = (SELECT max(loaded_at) FROM ingests WHERE body = ?) "
+                    "ORDER BY file", [body, body])
+
+
 def remove_body(store: Store, body: str) -> dict[str, int]:
     """Delete ``body`` and every row about it (one transaction); return rows removed per
     table. Runs and their parameters stay: they record what was done, not what is stored."""

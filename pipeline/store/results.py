@@ -146,6 +146,24 @@ def last_build_run(store: Store, spec: str | None = None) -> dict | None:
     return run
 
 
+def group_pair_series(store: Store, body: str, spec: str) -> pd.DataFrame:
+    """``group_a, group_b, period, value``: each pair of groups' mean agreement (A before B),
+    in period order."""
+    return store.df(
+        """SELECT g.group_a, g.group_b, g.period, g.agreement AS value FROM group_agreement g
+           JOIN periods p USING (body, spec, period)
+           WHERE g.body = ? AND g.spec = ? AND g.group_a < g.group_b
+           ORDER BY p.period_start""", [body, spec])
+
+
+def subset_series(store: Store, body: str, spec: str) -> pd.DataFrame:
+    """``subset, metric, period, value`` of every stored subset row, in period order."""
+    return store.df(
+        """SELECT s.subset, s.metric, s.period, s.value FROM subset_metrics s
+           JOIN periods p USING (body, spec, period) WHERE s.body = ? AND s.spec = ?
+           ORDER BY p.period_start""", [body, spec])
+
+
 def period_fingerprints(store: Store, spec: str) -> list[tuple]:
     """(body, period, fingerprint) of every stored period of ``spec``, sorted."""
     return store.rows("SELECT body, period, fingerprint FROM periods WHERE spec = ? "

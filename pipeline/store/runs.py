@@ -39,3 +39,8 @@ def finish_run(store: Store, run_id: int, status: str, recomputed: list | None =
 def last_run(store: Store) -> dict | None:
     frame = store.df("SELECT * FROM runs ORDER BY run_id DESC LIMIT 1")
     return None if frame.empty else frame.iloc[0].to_dict()
+
+
+def runs_frame(store: Store):
+    """Every row of ``runs``, oldest first (a pandas frame)."""
+    return store.df("SELECT * FROM runs ORDER BY run_id")
