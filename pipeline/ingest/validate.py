@@ -120,9 +120,6 @@ class Problems:
     def __len__(self) -> int:
         return len(self.items)
 
-    def total_rows(self) -> int:
-        return sum(p.count for p in self.items)
-
     def ordered(self) -> list[Problem]:
         rank = {k: i for i, k in enumerate(KINDS)}
         # within a kind, examples before the counted rest (the rest has no place to name)
